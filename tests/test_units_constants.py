@@ -1,0 +1,91 @@
+"""Units and constants against CODATA 2018 and the SI definitions."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from udfs.core import constants, units
+from udfs.core.errors import CellwrightError, UnitError
+
+
+def test_faraday_constant_codata2018() -> None:
+    # CODATA2018: F = N_A e = 96 485.332 12... C/mol, exact since the 2019 SI
+    assert pytest.approx(96485.33212, abs=1e-5) == constants.F
+    assert pytest.approx(6.02214076e23 * 1.602176634e-19, rel=1e-15) == constants.F
+
+
+def test_gas_constant_codata2018() -> None:
+    # CODATA2018: R = N_A k = 8.314 462 618... J/(mol K), exact
+    assert pytest.approx(8.314462618, abs=1e-9) == constants.R
+    assert pytest.approx(6.02214076e23 * 1.380649e-23, rel=1e-15) == constants.R
+
+
+def test_nernst_slope_uses_ln10() -> None:
+    # SOURCES.md trap: ln(10) RT/F at 298.15 K is 59.159 mV (2.303 would give 59.17)
+    slope = constants.LN10 * constants.R * constants.T_STANDARD / constants.F
+    assert slope * 1000 == pytest.approx(59.159, abs=0.0005)
+
+
+@pytest.mark.parametrize(
+    ("value", "src", "dst", "expected"),
+    [
+        (1.0, "Ah", "C", 3600.0),  # SI definition: 1 Ah = 3600 C
+        (1.0, "kWh", "J", 3.6e6),  # SI definition
+        (1.0, "mAh/g", "Ah/kg", 1.0),  # SI prefixes
+        (25.0, "degC", "K", 298.15),  # SI definition of the Celsius scale
+        (1.0, "t", "kg", 1000.0),  # SI: tonne
+        (10.0, "mg/cm^2", "g/m^2", 100.0),  # SI prefixes
+        (1.0, "A/dm^2", "A/m^2", 100.0),  # SI prefixes
+        (1.0, "um", "m", 1e-6),  # SI prefixes
+        (1.0, "bar", "Pa", 1e5),  # SI definition of the bar
+        (1.0, "MWh", "kWh", 1000.0),  # SI prefixes
+    ],
+)
+def test_conversions(value: float, src: str, dst: str, expected: float) -> None:
+    assert units.convert(value, src, dst) == pytest.approx(expected, rel=1e-12)
+
+
+def test_wrong_dimension_names_both_units() -> None:
+    with pytest.raises(UnitError, match=r"'Ah'.*cannot be converted to 'kg'"):
+        units.convert(1.0, "Ah", "kg", argument="from_unit")
+
+
+def test_unknown_unit_suggests() -> None:
+    with pytest.raises(UnitError, match=r"unknown unit 'mAhh'.*did you mean"):
+        units.convert(1.0, "mAhh", "Ah")
+
+
+@pytest.mark.parametrize("bad", ["", "   ", None, 3])
+def test_empty_or_non_text_unit(bad: object) -> None:
+    with pytest.raises(CellwrightError):
+        units.convert(1.0, bad, "Ah")  # type: ignore[arg-type]
+
+
+def test_conversion_is_cached() -> None:
+    units.conversion.cache_clear()
+    units.conversion("Ah", "C")
+    units.conversion("Ah", "C")
+    assert units.conversion.cache_info().hits >= 1
+
+
+@given(
+    st.floats(min_value=-1e12, max_value=1e12, allow_nan=False),
+    st.sampled_from([("Ah", "C"), ("kWh", "MJ"), ("degC", "degF"), ("g", "lb"), ("mAh/g", "C/kg")]),
+)
+def test_unit_round_trip(x: float, pair: tuple[str, str]) -> None:
+    # property: converting there and back returns the value (common practice)
+    there = units.convert(x, *pair)
+    back = units.convert(there, pair[1], pair[0])
+    assert back == pytest.approx(x, rel=1e-9, abs=1e-6)
+
+
+def test_constant_lookup_is_case_insensitive() -> None:
+    value, unit, _ = constants.constant(" f ")
+    assert (value, unit) == (constants.F, "C/mol")
+    with pytest.raises(CellwrightError, match="did you mean"):
+        constants.constant("FF")
+    assert math.isclose(constants.constant("NERNST_SLOPE")[0], 0.0591596, rel_tol=1e-5)

@@ -1,0 +1,1 @@
+"""cellwright: spreadsheet functions for electrochemical cell sizing and costing."""

@@ -1,0 +1,2 @@
+"""The computational core: floats and numpy arrays in and out, no spreadsheet,
+file or command-line knowledge."""

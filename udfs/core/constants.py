@@ -1,0 +1,87 @@
+"""Physical constants from CODATA 2018 (as defined in pint), typed in once.
+
+Since the 2019 SI redefinition F = N_A e and R = N_A k are exact.
+
+>>> round(F, 5)
+96485.33212
+>>> round(LN10 * R * T_STANDARD / F * 1000, 3)  # Nernst slope, mV/decade
+59.159
+"""
+
+from __future__ import annotations
+
+import math
+
+from .units import registry
+
+__all__ = [
+    "LN10",
+    "PKW_25C",
+    "SECONDS_PER_HOUR",
+    "T0",
+    "T_STANDARD",
+    "F",
+    "R",
+    "constant",
+    "constant_names",
+]
+
+_reg = registry()
+
+#: Faraday constant, C/mol (CODATA 2018, exact).
+F: float = float((1 * _reg.faraday_constant).to("C/mol").magnitude)
+#: Molar gas constant, J/(mol K) (CODATA 2018, exact).
+R: float = float((1 * _reg.molar_gas_constant).to("J/(mol*K)").magnitude)
+#: 0 degC in kelvin (SI definition).
+T0: float = 273.15
+#: Standard temperature of the tables, 25 degC, in kelvin.
+T_STANDARD: float = 298.15
+LN10: float = math.log(10.0)
+SECONDS_PER_HOUR: float = 3600.0
+#: pKw of water at 25 degC (CRC Handbook, "Ionization constant of water", 14.00 rounded;
+#: the tabulated value is 13.995).
+PKW_25C: float = 13.995
+
+_TABLE: dict[str, tuple[float, str, str]] = {
+    "F": (F, "C/mol", "Faraday constant (CODATA 2018, exact)"),
+    "R": (R, "J/(mol*K)", "molar gas constant (CODATA 2018, exact)"),
+    "NA": (
+        float((1 * _reg.avogadro_constant).to("1/mol").magnitude),
+        "1/mol",
+        "Avogadro constant (exact)",
+    ),
+    "e": (float((1 * _reg.elementary_charge).to("C").magnitude), "C", "elementary charge (exact)"),
+    "k": (
+        float((1 * _reg.boltzmann_constant).to("J/K").magnitude),
+        "J/K",
+        "Boltzmann constant (exact)",
+    ),
+    "T0": (T0, "K", "0 degC in kelvin"),
+    "T25": (T_STANDARD, "K", "25 degC in kelvin, the tables' standard temperature"),
+    "NERNST_SLOPE": (
+        LN10 * R * T_STANDARD / F,
+        "V",
+        "ln(10) RT/F at 25 degC, per decade and electron",
+    ),
+    "PKW": (PKW_25C, "dimensionless", "pKw of water at 25 degC (CRC Handbook)"),
+}
+
+
+def constant_names() -> list[str]:
+    """Names accepted by :func:`constant`."""
+    return list(_TABLE)
+
+
+def constant(name: str) -> tuple[float, str, str]:
+    """``(value, unit, description)`` of a named constant; case-insensitive.
+
+    >>> constant("f")[1]
+    'C/mol'
+    """
+    from .errors import NotFoundError
+    from .names import closest
+
+    for key in _TABLE:
+        if key.lower() == name.strip().lower():
+            return _TABLE[key]
+    raise NotFoundError("name", name, "constant", closest(name, _TABLE))
