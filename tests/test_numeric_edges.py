@@ -46,7 +46,8 @@ def test_catalogue_potential_at_extremes_uses_de0dt() -> None:
 def test_ph_extremes() -> None:
     e = nernst.potential("O2/H2O", {"pH": np.array([-1.0, 0.0, 14.0, 15.0])})
     assert np.isfinite(e).all()
-    np.testing.assert_allclose(np.diff(e), -math.log(10) * R * 298.15 / F * np.array([1, 14, 1]), atol=1e-12)
+    slope = math.log(10) * R * 298.15 / F
+    np.testing.assert_allclose(np.diff(e), -slope * np.array([1, 14, 1]), atol=1e-12)
 
 
 @pytest.mark.parametrize("current", [1e-6, 1e-3, 1.0, 1e3, 1e5])
@@ -82,4 +83,5 @@ def test_heat_rate_over_currents_and_temperatures() -> None:
 def test_series_parallel_huge_and_tiny() -> None:
     s, p, cells, wh = capacity.series_parallel(1500.0, 1e9, 3.2, 300.0)
     assert (float(s), float(p)) == (469.0, math.ceil(1e9 / (469 * 3.2 * 300)))
+    assert float(cells) == float(s) * float(p)
     assert np.isfinite(wh)
