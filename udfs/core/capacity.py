@@ -42,9 +42,16 @@ _CEIL_TOL = 1e-9
 
 
 def ceil_count(x: ArrayLike) -> Array:
-    """Ceiling that forgives float noise (3.0000000001 -> 3)."""
+    """Whole-number ceiling that forgives float noise: a value within 1e-9
+    (relative) of a whole number counts as that number.
+
+    >>> ceil_count([2.0000000000004, 2.01, 3.0]).tolist()
+    [2.0, 3.0, 3.0]
+    """
     a = np.asarray(x, dtype=float)
-    return np.ceil(a * (1.0 - _CEIL_TOL))
+    r = np.round(a)
+    near = np.abs(a - r) <= _CEIL_TOL * np.maximum(np.abs(a), 1.0)
+    return np.where(near, r, np.ceil(a))
 
 
 def theoretical_capacity(molar_mass: ArrayLike, electrons: ArrayLike) -> Array:

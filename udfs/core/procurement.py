@@ -22,10 +22,11 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from . import catalogue
+from .capacity import ceil_count
 from .errors import InputError
 from .formula import atomic_weight, mass_fraction, molar_mass, parse
-from .sizing import CellDesign, _broadcast_shape, ceil_count
-from .validate import FRACTION_OPEN, NONNEGATIVE, POSITIVE, check, integer_or_positive
+from .sizing import CellDesign, _broadcast_shape, _check
+from .validate import FRACTION_OPEN, NONNEGATIVE, POSITIVE, integer_or_positive
 
 __all__ = [
     "LCE_FACTOR",
@@ -41,9 +42,11 @@ Array = NDArray[np.float64]
 #: kg of Li2CO3 per kg of lithium: M(Li2CO3) / (2 M(Li)), IUPAC 2021 atomic weights.
 LCE_FACTOR: float = molar_mass("Li2CO3") / (2.0 * atomic_weight("Li"))
 
-#: Inactive catalogue items that are (near) pure metals: name -> element. Alloys and
-#: coatings (tab plating, can alloys) are ignored, so these are estimates.
-_PURE_METALS: Mapping[str, str] = MappingProxyType(
+#: Inactive catalogue items of well-defined composition, by formula (metals: pure metal,
+#: alloying and plating ignored; polymers: the repeat unit; carbon black taken as C).
+#: Mixtures of variable make-up (CMC, SBR, laminates, plated steel, ceramic coatings)
+#: are left out and reported as uncounted.
+_INACTIVE_FORMULAS: Mapping[str, str] = MappingProxyType(
     {
         "aluminium foil": "Al",
         "copper foil": "Cu",
@@ -51,6 +54,10 @@ _PURE_METALS: Mapping[str, str] = MappingProxyType(
         "copper tab": "Cu",
         "nickel tab": "Ni",
         "aluminium housing": "Al",
+        "PVDF": "C2H2F2",
+        "PE separator": "C2H4",
+        "PP separator": "C3H6",
+        "carbon black": "C",
     }
 )
 
@@ -71,7 +78,7 @@ def lce(lithium_mass: ArrayLike) -> Array | float:
     >>> round(lce(1.0), 4)
     5.3233
     """
-    m = check("lithium_mass", lithium_mass, NONNEGATIVE)
+    m = _check("lithium_mass", lithium_mass, NONNEGATIVE)
     out = m * LCE_FACTOR
     return float(out) if out.ndim == 0 else out
 
@@ -86,8 +93,8 @@ def metal_content(
     53.6
     """
     frac = mass_fraction(formula, element, "formula")
-    m = check("material_mass", material_mass, NONNEGATIVE)
-    y = check("yield", yield_, FRACTION_OPEN)
+    m = _check("material_mass", material_mass, NONNEGATIVE)
+    y = _check("yield", yield_, FRACTION_OPEN)
     _broadcast_shape({"material_mass": m, "yield": y})
     out = m / y * frac
     return float(out) if out.ndim == 0 else out
@@ -105,8 +112,9 @@ def composition(material_name: str) -> Mapping[str, float] | None:
     if "formula" in m.facts:
         f = parse(m.get("formula"))
         return MappingProxyType({el: mass_fraction(f.text, el) for el in f.atoms})
-    if m.name in _PURE_METALS:
-        return MappingProxyType({_PURE_METALS[m.name]: 1.0})
+    if m.name in _INACTIVE_FORMULAS:
+        f = parse(_INACTIVE_FORMULAS[m.name])
+        return MappingProxyType({el: mass_fraction(f.text, el) for el in f.atoms})
     if m.name in _ELECTROLYTE_SALTS:
         salt, conc = _ELECTROLYTE_SALTS[m.name]
         # g salt per g solution: c (mol/L) * M (g/mol) / (density (g/cm3) * 1000 cm3/L)
@@ -170,16 +178,16 @@ def order_materials(
     """
     if not isinstance(design, CellDesign):
         raise InputError("design", design, "a CellDesign from design_cell")
-    if (order_cells is None) == (order_MWh is None):
+    if order_cells is not None and order_MWh is None:
+        cells = _check("order_cells", order_cells, integer_or_positive("a whole number > 0"))
+    elif order_MWh is not None and order_cells is None:
+        mwh = _check("order_MWh", order_MWh, POSITIVE)
+        _broadcast_shape({"order_MWh": mwh, "design": design.energy_Wh})
+        cells = ceil_count(mwh * 1e6 / design.energy_Wh)
+    else:
         raise InputError(
             "order_cells", order_cells, detail="give exactly one of order_cells and order_MWh"
         )
-    if order_MWh is None:
-        cells = check("order_cells", order_cells, integer_or_positive("a whole number > 0"))
-    else:
-        mwh = check("order_MWh", order_MWh, POSITIVE)
-        _broadcast_shape({"order_MWh": mwh, "design": design.energy_Wh})
-        cells = ceil_count(mwh * 1e6 / design.energy_Wh)
     shape = _broadcast_shape({"order": cells, "design": design.energy_Wh})
     wanted = _element_list(elements)
 

@@ -30,6 +30,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from . import catalogue
+from .capacity import ceil_count, series_parallel
 from .errors import DomainError, InputError, NotFoundError, ShapeError, UnitError
 from .names import closest, normalise
 from .units import conversion, dimension_of
@@ -47,7 +48,6 @@ __all__ = [
     "CellSpec",
     "CellValues",
     "PackDesign",
-    "ceil_count",
     "design_cell",
     "size_cell",
     "size_pack",
@@ -59,7 +59,6 @@ Price = ArrayLike | tuple[ArrayLike, str]
 #: A binder: one material name, or a mapping name -> share of the binder fraction.
 Binder = str | Mapping[str, float]
 
-_CEIL_RTOL = 1e-9
 _FRACTION_SUM_TOL = 1e-12
 
 
@@ -182,7 +181,7 @@ def _binder_shares(value: object, argument: str) -> tuple[tuple[_Mat, float], ..
         )
     out = []
     for name, share in value.items():
-        s = float(check(f"{argument}[{name!r}]", share, FRACTION_OPEN))
+        s = float(_check(f"{argument}[{name!r}]", share, FRACTION_OPEN))
         out.append((_material(name, argument, "binder"), s))
     total = sum(s for _, s in out)
     if abs(total - 1.0) > 1e-9:
@@ -219,9 +218,9 @@ def _user_prices(prices: Mapping[str, Price] | None) -> dict[str, tuple[Array, s
             if len(raw) != 2 or not isinstance(raw[1], str):
                 raise InputError(where, raw, "a number in USD/kg or a pair (value, 'USD/m^2')")
             basis, factor = _price_basis(raw[1], where)
-            out[canonical] = (check(where, raw[0], NONNEGATIVE) * factor, basis)
+            out[canonical] = (_check(where, raw[0], NONNEGATIVE) * factor, basis)
         else:
-            out[canonical] = (check(where, raw, NONNEGATIVE), "kg")
+            out[canonical] = (_check(where, raw, NONNEGATIVE), "kg")
     return out
 
 
@@ -241,17 +240,15 @@ def _unit_price(name: str, given: Mapping[str, tuple[Array, str]]) -> tuple[Arra
 # --------------------------------------------------------------------------- helpers
 
 
-def ceil_count(x: ArrayLike) -> Array:
-    """Whole-number ceiling that forgives float noise: a value within 1e-9
-    (relative) of a whole number counts as that number.
-
-    >>> ceil_count([2.0000000000004, 2.01, 3.0]).tolist()
-    [2.0, 3.0, 3.0]
-    """
-    a = np.asarray(x, dtype=float)
-    r = np.round(a)
-    near = np.abs(a - r) <= _CEIL_RTOL * np.maximum(np.abs(a), 1.0)
-    return np.where(near, r, np.ceil(a))
+def _check(name: str, value: object, domain: Domain) -> Array:
+    """Numbers only (no text, no empty values), then the domain check."""
+    try:
+        arr = np.asarray(value)
+    except (TypeError, ValueError):
+        arr = np.asarray(None)
+    if arr.dtype.kind not in "biuf":
+        raise InputError(name, value, "a number or an array of numbers")
+    return check(name, arr, domain)
 
 
 def _broadcast_shape(values: Mapping[str, Array]) -> tuple[int, ...]:
@@ -402,9 +399,9 @@ class CellDesign:
 
 _NUMERIC_DOMAINS: tuple[tuple[str, Domain], ...] = (
     ("cathode_active_fraction", FRACTION_OPEN),
-    ("cathode_binder_fraction", Domain("between 0 and 1", lambda a: (a >= 0) & (a < 1))),
+    ("cathode_binder_fraction", UNIT_INTERVAL_HALF_OPEN),
     ("anode_active_fraction", FRACTION_OPEN),
-    ("anode_binder_fraction", Domain("between 0 and 1", lambda a: (a >= 0) & (a < 1))),
+    ("anode_binder_fraction", UNIT_INTERVAL_HALF_OPEN),
     ("cathode_porosity", UNIT_INTERVAL_HALF_OPEN),
     ("anode_porosity", UNIT_INTERVAL_HALF_OPEN),
     ("np_ratio", POSITIVE),
@@ -461,14 +458,14 @@ def design_cell(spec: CellSpec) -> CellDesign:
 
     # ---- numbers, validated (DomainError names the argument)
     v: dict[str, Array] = {
-        name: check(name, getattr(spec, name), dom) for name, dom in _NUMERIC_DOMAINS
+        name: _check(name, getattr(spec, name), dom) for name, dom in _NUMERIC_DOMAINS
     }
     target_name, target_value = _exactly_one(spec, "target_capacity_Ah", "target_energy_Wh")
-    v[target_name] = check(target_name, target_value, POSITIVE)
+    v[target_name] = _check(target_name, target_value, POSITIVE)
     load_name, load_value = _exactly_one(
         spec, "cathode_loading_mg_cm2", "cathode_areal_capacity_mAh_cm2"
     )
-    v[load_name] = check(load_name, load_value, POSITIVE)
+    v[load_name] = _check(load_name, load_value, POSITIVE)
     optional = (
         ("cathode_specific_capacity_mAh_g", POSITIVE, lambda: _fact_number(
             cath, "practical_capacity", "cathode_specific_capacity_mAh_g")),
@@ -486,9 +483,9 @@ def design_cell(spec: CellSpec) -> CellDesign:
     )
     for name, dom, default in optional:
         given = getattr(spec, name)
-        v[name] = check(name, default() if given is None else given, dom)
-    shape = _broadcast_shape(v)
+        v[name] = _check(name, default() if given is None else given, dom)
     prices = _user_prices(spec.prices)
+    shape = _broadcast_shape({**v, **{f"prices[{k!r}]": a for k, (a, _) in prices.items()}})
 
     f_c, b_c = v["cathode_active_fraction"], v["cathode_binder_fraction"]
     f_a, b_a = v["anode_active_fraction"], v["anode_binder_fraction"]
@@ -719,22 +716,20 @@ def size_pack(
     if isinstance(cell, CellDesign):
         cv, ca, cm = cell.nominal_voltage_V, cell.capacity_Ah, cell.cell_mass_g
     elif isinstance(cell, tuple) and len(cell) == 3:
-        cv = check("cell voltage_V", cell[0], POSITIVE)
-        ca = check("cell capacity_Ah", cell[1], POSITIVE)
-        cm = check("cell mass_g", cell[2], POSITIVE)
+        cv = _check("cell voltage_V", cell[0], POSITIVE)
+        ca = _check("cell capacity_Ah", cell[1], POSITIVE)
+        cm = _check("cell mass_g", cell[2], POSITIVE)
     else:
         raise InputError("cell", cell, "a CellDesign or CellValues(voltage_V, capacity_Ah, mass_g)")
-    tv = check("target_voltage_V", target_voltage_V, POSITIVE)
-    te = check("target_energy_kWh", target_energy_kWh, POSITIVE)
-    frac = check("cell_to_pack_mass_fraction", cell_to_pack_mass_fraction, FRACTION_OPEN)
+    tv = _check("target_voltage_V", target_voltage_V, POSITIVE)
+    te = _check("target_energy_kWh", target_energy_kWh, POSITIVE)
+    frac = _check("cell_to_pack_mass_fraction", cell_to_pack_mass_fraction, FRACTION_OPEN)
     shape = _broadcast_shape(
         {"cell voltage_V": cv, "cell capacity_Ah": ca, "cell mass_g": cm,
          "target_voltage_V": tv, "target_energy_kWh": te, "cell_to_pack_mass_fraction": frac}
     )
     cell_wh = cv * ca
-    series = np.maximum(ceil_count(tv / cv), 1.0)
-    parallel = np.maximum(ceil_count(te * 1000.0 / (series * cell_wh)), 1.0)
-    cells = series * parallel
+    series, parallel, cells, _ = series_parallel(tv, te * 1000.0, cv, ca)
     cells_mass = cells * cm / 1000.0
     pack_mass = cells_mass / frac
     pack_kwh = cells * cell_wh / 1000.0

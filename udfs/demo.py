@@ -1,0 +1,147 @@
+"""The demo scenario -- demo data: invented company, product and prices.
+
+"Brackenridge Cell Works" and its "Tern 55" pouch cell do not exist; the prices
+come from ``data/demo_prices.csv`` and are invented too. The cell spec uses
+typical figures of the trade (see :class:`udfs.core.sizing.CellSpec`).
+
+>>> from udfs.core.sizing import design_cell
+>>> text = format_bom(design_cell(demo_spec()))
+>>> "demo data: invented company, product and prices" in text
+True
+"""
+
+from __future__ import annotations
+
+import textwrap
+
+import numpy as np
+
+from .core.errors import InputError
+from .core.sizing import CellDesign, CellSpec
+
+__all__ = ["CAUTION", "DEMO_COMPANY", "DEMO_LABEL", "DEMO_PRODUCT", "demo_spec", "format_bom"]
+
+DEMO_LABEL = "demo data: invented company, product and prices"
+DEMO_COMPANY = "Brackenridge Cell Works (invented)"
+DEMO_PRODUCT = "Tern 55 - NMC811/graphite stacked pouch cell, about 55 Ah (invented)"
+
+CAUTION = (
+    "Caution: these figures are estimates from a simplified model and invented demo prices, "
+    "not a design release or a quotation. Cells can overheat, vent toxic and flammable gases, "
+    "burn or explode if made, charged or handled wrongly. Follow the applicable standards and "
+    "local codes, and have qualified engineers check any design before it is built, shipped "
+    "or used."
+)
+
+
+def demo_spec() -> CellSpec:
+    """The demo cell: NMC811 against graphite, 55 Ah target (demo data).
+
+    >>> demo_spec().target_capacity_Ah
+    55.0
+    """
+    return CellSpec(
+        cathode="NMC811",
+        anode="graphite",
+        target_capacity_Ah=55.0,
+        cathode_loading_mg_cm2=22.0,  # common practice (18-25 mg/cm2 per side, energy cells)
+        cathode_active_fraction=0.96,  # common practice
+        cathode_binder_fraction=0.02,  # common practice
+        anode_active_fraction=0.96,  # common practice
+        anode_binder_fraction=0.03,  # common practice
+        np_ratio=1.1,  # common practice
+        first_cycle_loss=0.08,  # from memory
+        tab_mass_g=2.0,  # from memory
+        housing="pouch laminate",
+        housing_mass_g=15.0,  # from memory
+        width_mm=100.0,  # invented demo footprint
+        height_mm=300.0,  # invented demo footprint
+        electrode_scrap=0.05,  # from memory
+        cell_yield=0.95,  # from memory
+    )
+
+
+def _value(a: np.ndarray, index: int | tuple[int, ...] | None) -> float:
+    if a.ndim == 0:
+        return float(a)
+    if index is None:
+        if a.size != 1:
+            raise InputError(
+                "index", None, detail=f"the design holds {a.size} scenarios; pick one with index"
+            )
+        return float(a.reshape(-1)[0])
+    try:
+        return float(a[index])
+    except (IndexError, TypeError, ValueError):
+        raise InputError("index", index, f"an index into shape {a.shape}") from None
+
+
+def format_bom(
+    design: CellDesign, index: int | tuple[int, ...] | None = None, title: str | None = None
+) -> str:
+    """A readable bill of materials of one scenario of ``design``.
+
+    Columns: component, mass (g), share of cell mass (%), cost per good cell
+    (USD, scrap and yield included), share of cost (%); then totals, capacity,
+    energy, Wh/kg, Wh/L, cost per cell and per kWh, and a caution.
+    """
+    if not isinstance(design, CellDesign):
+        raise InputError("design", design, "a CellDesign from design_cell")
+    masses = {k: _value(v, index) for k, v in design.components.items()}
+    costs = {k: _value(v, index) for k, v in design.component_costs_USD.items()}
+    mass_total = _value(design.cell_mass_g, index)
+    cost_total = _value(design.cost_per_cell_USD, index)
+
+    def num(name: str) -> float:
+        return _value(getattr(design, name), index)
+
+    width = max(len("Component"), *(len(k) for k in masses))
+    head = f"{'Component':<{width}}  {'Mass g':>9}  {'Share %':>7}  {'Cost USD':>9}  {'Cost %':>6}"
+    rule = "-" * len(head)
+    if title is None:
+        lines = [f"Bill of materials ({DEMO_LABEL})", f"{DEMO_COMPANY}: {DEMO_PRODUCT}"]
+    else:
+        lines = [title]
+    lines += [
+        f"{design.cathode} / {design.anode}, stacked cell: {num('cathode_sheets'):.0f} cathode "
+        f"and {num('anode_sheets'):.0f} anode sheets, {num('separator_layers'):.0f} separator "
+        "layers",
+        "",
+        head,
+        rule,
+    ]
+    for k in masses:
+        lines.append(
+            f"{k:<{width}}  {masses[k]:>9.2f}  {100 * masses[k] / mass_total:>7.2f}  "
+            f"{costs[k]:>9.3f}  {100 * costs[k] / cost_total:>6.2f}"
+        )
+    lines += [
+        rule,
+        f"{'Total':<{width}}  {mass_total:>9.2f}  {100.0:>7.2f}  {cost_total:>9.3f}  {100.0:>6.2f}",
+        "",
+        f"Nominal voltage        {num('nominal_voltage_V'):10.3f} V",
+        f"Capacity               {num('capacity_Ah'):10.2f} Ah "
+        f"(target {num('target_capacity_Ah'):.2f} Ah)",
+        f"Energy                 {num('energy_Wh'):10.1f} Wh",
+        f"Cell mass              {mass_total:10.1f} g",
+        f"Cell volume            {num('cell_volume_cm3'):10.1f} cm3",
+        f"Specific energy        {num('specific_energy_Wh_kg'):10.1f} Wh/kg",
+        f"Energy density         {num('energy_density_Wh_L'):10.1f} Wh/L",
+        f"Cathode loading        {num('cathode_loading_mg_cm2'):10.2f} mg/cm2 per side, "
+        f"{num('cathode_coating_thickness_um'):.1f} um",
+        f"Anode loading          {num('anode_loading_mg_cm2'):10.2f} mg/cm2 per side, "
+        f"{num('anode_coating_thickness_um'):.1f} um",
+        f"Stack thickness        {num('stack_thickness_um') / 1000.0:10.2f} mm",
+        f"Cost per good cell     {cost_total:10.2f} USD",
+        f"Cost per kWh           {num('cost_per_kWh_USD'):10.1f} USD/kWh",
+        "",
+        *textwrap.wrap(
+            "Costs are materials only, per good cell: electrode materials (coatings and foils) "
+            f"divided by (1 - scrap {num('electrode_scrap'):.1%}), every component divided by "
+            f"the cell yield ({num('cell_yield'):.1%}).",
+            88,
+        ),
+        "",
+        *textwrap.wrap(CAUTION, 88),
+    ]
+    return "\n".join(lines)
