@@ -19,7 +19,6 @@ import math
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
 from functools import cache
-from importlib import resources
 from pathlib import Path
 from types import MappingProxyType
 
@@ -57,11 +56,13 @@ INACTIVE_CATEGORIES = (
 
 
 def data_dir() -> Path:
-    """The folder holding the CSV tables (source tree or installed wheel)."""
-    here = Path(__file__).resolve().parents[2] / "data"
-    if (here / "half_reactions.csv").is_file():
-        return here
-    return Path(str(resources.files("udfs.data")))
+    """The folder holding the CSV tables: ``udfs/data`` inside an installed
+    wheel, or ``data/`` at the top of a source checkout."""
+    here = Path(__file__).resolve().parents[1]
+    for candidate in (here / "data", here.parent / "data"):
+        if (candidate / "half_reactions.csv").is_file():
+            return candidate
+    raise DataError("data", str(here), detail="reference tables not found; reinstall cellwright")
 
 
 def _rows(name: str) -> Iterator[tuple[int, dict[str, str]]]:
