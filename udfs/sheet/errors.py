@@ -8,13 +8,22 @@ spreadsheet error value that IFERROR and propagation understand.
 >>> e = SheetError("#NUM!", "mass_g must be > 0 (got -1)")
 >>> e.code, str(e)
 ('#NUM!', '#NUM! mass_g must be > 0 (got -1)')
+>>> incoming_error("#N/A").code               # an error value from another cell
+'#N/A'
+>>> incoming_error("#NUM! mass_g must be > 0").message
+'mass_g must be > 0'
+>>> incoming_error("#1 grade") is None
+True
 """
 
 from __future__ import annotations
 
-__all__ = ["CODES", "SheetError"]
+__all__ = ["CODES", "SheetError", "from_exception", "incoming_error"]
 
 CODES = ("#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A")
+# Error values some runtimes produce besides the classic seven (passed on as #N/A-like
+# errors of their own text).
+_EXTRA = ("#GETTING_DATA", "#SPILL!", "#CALC!", "#FIELD!", "#BLOCKED!", "#CONNECT!", "#BUSY!")
 
 
 class SheetError(str):
@@ -33,3 +42,28 @@ class SheetError(str):
 
     def __reduce__(self) -> tuple[type[SheetError], tuple[str, str]]:
         return (SheetError, (self.code, self.message))
+
+
+def incoming_error(text: str) -> SheetError | None:
+    """The error value that ``text`` stands for, or ``None`` for ordinary text.
+
+    Recognises the bare codes (``"#N/A"``, as xlwings passes cell errors with
+    ``err_to_str``; the headless engine's error tokens are ``str`` too) and our
+    own error text arriving from another cell (``"#NUM! mass_g must be ..."``).
+    """
+    if isinstance(text, SheetError):
+        return text
+    if not text.startswith("#"):
+        return None
+    for code in CODES:
+        if text.startswith(code) and (len(text) == len(code) or text[len(code)] == " "):
+            return SheetError(code, text[len(code) :].strip())
+    for code in _EXTRA:
+        if text.startswith(code) and (len(text) == len(code) or text[len(code)] == " "):
+            return SheetError("#N/A", f"{code} from another cell")
+    return None
+
+
+def from_exception(exc: Exception) -> SheetError:
+    """The error value for a core error (its ``code`` and message)."""
+    return SheetError(getattr(exc, "code", "#VALUE!"), str(exc))

@@ -1,0 +1,318 @@
+"""Headless engine: cold vs warm evaluation, LibreOffice, and sweeps (ratios in one run).
+
+1. A workbook of about 1,500 formula cells (Excel's functions and ours) is
+   evaluated cold (fresh process state: read, check, compile, evaluate, write)
+   and warm (the compiled model cached by content hash; new input values
+   evaluated through the reduced, compiled model). Two warm cases: an input that
+   every formula depends on, and an input that one column depends on.
+2. If ``soffice``/``libreoffice`` is on PATH: LibreOffice's headless
+   recalculation of the same workbook (xlsx -> xlsx, recalculation on load
+   forced in a private profile), end to end, against ``cellwright calc`` end to
+   end; and like-for-like on a native-only variant (no CW_ functions, which
+   LibreOffice cannot compute), whose results are also cross-checked.
+3. ``cellwright sweep --model core`` of 100,000 scenarios, end to end.
+4. Workbook sweeps: scenarios per second through the compiled model.
+
+Targets from the issue (reported, never asserted): cold/LibreOffice <= 1.0;
+warm < 50 ms and >= 20x faster than cold; core sweep of 100,000 < 2 s;
+workbook sweep >= 50 scenarios/s.
+
+Run: ``python benchmarks/bench_engine.py`` (prints; no assertions).
+"""
+
+from __future__ import annotations
+
+import io
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import openpyxl
+from openpyxl.workbook.defined_name import DefinedName
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+
+from udfs.engine.calc import calculate_file  # noqa: E402
+from udfs.engine.model import clear_cache, load_model  # noqa: E402
+from udfs.engine.progress import Progress  # noqa: E402
+from udfs.engine.sweep import parse_vary, sweep_workbook  # noqa: E402
+
+ROWS = 295  # 5 formula columns x 295 rows + summary = about 1,500 formula cells
+
+
+def build_workbook(ours: bool) -> bytes:
+    """The benchmark workbook; ``ours=False`` replaces CW_ calls by the same arithmetic."""
+    wb = openpyxl.Workbook()
+    inp = wb.active
+    inp.title = "Inputs"
+    values = [12.5, 1.5, 160.0, 3.65, 20.0, 4.0, 3.2, "LiFePO4", 0.96, 22.0]
+    for i, v in enumerate(values, start=1):
+        inp.cell(i, 2, v)
+    calc = wb.create_sheet("Calc")
+    for r in range(1, ROWS + 1):
+        calc[f"A{r}"] = f"=Inputs!$B$1*{r}/10+Inputs!$B$2"
+        if ours:
+            calc[f"B{r}"] = f"=CW_CAPACITY(A{r},Inputs!$B$3)"
+            calc[f"C{r}"] = f"=CW_ENERGY(B{r},Inputs!$B$4)"
+            calc[f"E{r}"] = f"=IFERROR(CW_ELECTRODE_AREA(B{r},Inputs!$B$7)/D{r},0)"
+        else:
+            calc[f"B{r}"] = f"=A{r}*Inputs!$B$3/1000"
+            calc[f"C{r}"] = f"=B{r}*Inputs!$B$4"
+            calc[f"E{r}"] = f"=IFERROR(B{r}*1000/Inputs!$B$7/D{r},0)"
+        calc[f"D{r}"] = f"=IF(C{r}>Inputs!$B$5,ROUNDUP(C{r}/Inputs!$B$6,0),MAX(C{r},Inputs!$B$6))"
+    summary = {
+        "G1": f"=SUM(C1:C{ROWS})",
+        "G2": f"=SUMPRODUCT(B1:B{ROWS},D1:D{ROWS})",
+        "G3": f"=MAX(E1:E{ROWS})",
+        "G4": f"=INDEX(A1:A{ROWS},MATCH(G3,E1:E{ROWS},0))",
+        "G5": "=AND(G1>0,G2>0)",
+        "G6": "=CW_MOLAR_MASS(Inputs!$B$8)" if ours else "=157.75",
+        "G7": f"=ROUND(AVERAGE(D1:D{ROWS}),2)",
+        "G8": "=Inputs!$B$6*2",
+    }
+    for ref, text in summary.items():
+        calc[ref] = text
+    for name, ref in (
+        ("total_energy_Wh", "Calc!$G$1"),
+        ("weighted", "Calc!$G$2"),
+        ("best_area", "Calc!$G$3"),
+        ("average_count", "Calc!$G$7"),
+        ("one_column", "Calc!$G$8"),
+    ):
+        wb.defined_names[name] = DefinedName(name, attr_text=ref)
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
+
+
+def timed(fn: Callable[[], Any]) -> tuple[float, Any]:
+    t0 = time.perf_counter()
+    out = fn()
+    return time.perf_counter() - t0, out
+
+
+def run(cmd: list[str], cwd: Path | None = None) -> float:
+    t0 = time.perf_counter()
+    p = subprocess.run(cmd, capture_output=True, text=True, cwd=cwd, timeout=900)
+    dt = time.perf_counter() - t0
+    if p.returncode != 0:
+        raise RuntimeError(f"{' '.join(cmd[:4])}... failed: {p.stderr.strip()[-400:]}")
+    return dt
+
+
+def cold_and_warm(data: bytes, work: Path) -> dict[str, float]:
+    src = work / "bench.xlsx"
+    src.write_bytes(data)
+    clear_cache()
+    cold, report = timed(lambda: calculate_file(src, work / "cold-out.xlsx", force=True))
+    model = load_model(data, "bench.xlsx")
+    n_formulas = model.formula_count
+    same, _ = timed(lambda: model.evaluate())
+    results = {"formulas": n_formulas, "cold": cold, "warm_same": same}
+    for label, target in (("warm_all", "Inputs!B1"), ("warm_one_column", "Inputs!B6")):
+        first, _ = timed(lambda t=target: model.evaluate({t: 1.0}))  # full run, learns inputs
+        compile_t, _ = timed(lambda t=target: model.evaluate({t: 2.0}))  # reduces the model
+        times = [timed(lambda t=target, v=v: model.evaluate({t: v}))[0] for v in (3.0, 4.0, 5.0)]
+        results[f"{label}_first"] = first
+        results[f"{label}_compile"] = compile_t
+        results[label] = statistics.median(times)
+    errors = [d for d in report.evaluation.errors()]
+    results["errors"] = len(errors)
+    return results
+
+
+def find_office() -> str | None:
+    return shutil.which("soffice") or shutil.which("libreoffice")
+
+
+RECALC_PROFILE = """<?xml version="1.0" encoding="UTF-8"?>
+<oor:items xmlns:oor="http://openoffice.org/2001/registry"
+ xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
+<item oor:path="/org.openoffice.Office.Calc/Formula/Load">
+<prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
+<item oor:path="/org.openoffice.Office.Calc/Formula/Load">
+<prop oor:name="ODFRecalcMode" oor:op="fuse"><value>0</value></prop></item>
+</oor:items>
+"""
+
+
+def office_times(office: str, work: Path, files: dict[str, Path]) -> dict[str, float]:
+    profile = work / "lo-profile"
+    (profile / "user").mkdir(parents=True, exist_ok=True)
+    (profile / "user" / "registrymodifications.xcu").write_text(RECALC_PROFILE)
+    base = [office, "--headless", "--norestore", f"-env:UserInstallation=file://{profile}"]
+    tiny = work / "tiny.xlsx"
+    wb = openpyxl.Workbook()
+    wb.active["A1"] = "=1+1"
+    wb.save(tiny)
+    out_dir = work / "lo-out"
+    convert = [*base, "--convert-to", "xlsx", "--outdir", str(out_dir)]
+    run([*convert, str(tiny)])  # first start creates the profile: not timed
+    res = {"startup": statistics.median(run([*convert, str(tiny)]) for _ in range(3))}
+    for label, path in files.items():
+        res[label] = statistics.median(run([*convert, str(path)]) for _ in range(3))
+    return res
+
+
+def cross_check(work: Path, native: Path) -> str:
+    """LibreOffice's results of the native workbook against the engine's."""
+    lo = openpyxl.load_workbook(work / "lo-out" / native.name, data_only=True)["Calc"]
+    ev = load_model(native.read_bytes(), native.name).evaluate()
+    worst = 0.0
+    for r in range(1, ROWS + 1):
+        for c in "ABCDE":
+            a, b = lo[f"{c}{r}"].value, ev.value(f"Calc!{c}{r}")
+            if not isinstance(a, (int, float)) or not isinstance(b, (int, float)):
+                return f"cell Calc!{c}{r}: LibreOffice {a!r}, engine {b!r}"
+            worst = max(worst, abs(a - b) / max(abs(b), 1e-300))
+    return f"all {5 * ROWS} cells agree (largest relative difference {worst:.1e})"
+
+
+def core_sweep(work: Path) -> tuple[float, int]:
+    out = work / "core.csv"
+    cmd = [
+        sys.executable,
+        "-m",
+        "udfs.cli",
+        "sweep",
+        "--model",
+        "core",
+        "--vary",
+        "target_capacity_Ah=40:79.9:0.1",
+        "--vary",
+        "np_ratio=1.05:1.299:0.001",
+        "--out",
+        str(out),
+        "--force",
+    ]
+    dt = run(cmd, cwd=ROOT)
+    rows = sum(1 for _ in out.open()) - 1
+    return dt, rows
+
+
+def python_startup() -> float:
+    """Python start plus the imports a `calc` needs (engine, formulas, our functions)."""
+    code = "import udfs.cli, udfs.engine.model, udfs.engine.adapter as a; a.ensure_registered()"
+    return statistics.median(run([sys.executable, "-c", code], cwd=ROOT) for _ in range(3))
+
+
+def workbook_sweep(
+    data: bytes, name: str, vary: list[str], outputs: list[str]
+) -> tuple[float, int]:
+    model = load_model(data, name)
+    varies = [parse_vary(v) for v in vary]
+    n = 1
+    for v in varies:
+        n *= len(v.values)
+    bar = Progress(n, "sweep", stream=io.StringIO())
+    dt, _ = timed(lambda: sweep_workbook(model, varies, outputs, progress=bar))
+    return dt, n
+
+
+def main() -> None:
+    work = Path(tempfile.mkdtemp(prefix="cw-bench-"))
+    ours = build_workbook(ours=True)
+    native = build_workbook(ours=False)
+    (work / "ours.xlsx").write_bytes(ours)
+    (work / "native.xlsx").write_bytes(native)
+
+    print("1. Cold vs warm evaluation (in process)")
+    for label, data in (("with CW_ functions", ours), ("native only", native)):
+        r = cold_and_warm(data, work)
+        print(f"   workbook {label}: {r['formulas']:,} formula cells, {r['errors']} error cells")
+        print(f"     cold (read, check, compile, evaluate, write):   {r['cold']:8.3f} s")
+        print(
+            f"     warm, same inputs (cached results):             {r['warm_same'] * 1e3:8.3f} ms"
+        )
+        for case, what in (
+            ("warm_all", "an input every formula uses"),
+            ("warm_one_column", "an input one column uses"),
+        ):
+            print(f"     new value of {what}:")
+            print(f"       first time (full evaluation):               {r[case + '_first']:8.3f} s")
+            print(
+                f"       second time (reduces the model once):       {r[case + '_compile']:8.3f} s"
+            )
+            print(
+                f"       then, per evaluation (compiled):            {r[case] * 1e3:8.1f} ms"
+                f"   cold/warm = {r['cold'] / r[case]:7.1f}x"
+            )
+
+    office = find_office()
+    start = python_startup()
+    print(f"\n2. LibreOffice comparison (Python start + imports of the CLI: {start:.2f} s)")
+    cli = {}
+    for label in ("ours", "native"):
+        cli[label] = statistics.median(
+            run(
+                [
+                    sys.executable,
+                    "-m",
+                    "udfs.cli",
+                    "calc",
+                    str(work / f"{label}.xlsx"),
+                    "-o",
+                    str(work / f"cli-{label}.xlsx"),
+                    "--force",
+                ],
+                cwd=ROOT,
+            )
+            for _ in range(3)
+        )
+        print(f"   cellwright calc {label}.xlsx end to end:               {cli[label]:8.2f} s")
+    if office is None:
+        print("   soffice/libreoffice not on PATH: LibreOffice comparison skipped")
+    else:
+        lo = office_times(
+            office, work, {"ours": work / "ours.xlsx", "native": work / "native.xlsx"}
+        )
+        print(f"   LibreOffice start-up (trivial workbook):            {lo['startup']:8.2f} s")
+        for label in ("ours", "native"):
+            print(
+                f"   LibreOffice recalculation {label}.xlsx end to end:     {lo[label]:8.2f} s"
+                f"   engine/LibreOffice = {cli[label] / lo[label]:.2f}"
+            )
+        print(f"   cross-check (native workbook): {cross_check(work, work / 'native.xlsx')}")
+        print("   (LibreOffice cannot compute CW_ functions: in ours.xlsx those cells are #NAME?)")
+
+    print("\n3. Core sweep, end to end (cellwright sweep --model core, CSV)")
+    dt, rows = core_sweep(work)
+    print(f"   {rows:,} scenarios in {dt:.2f} s (of which Python start + imports ~{start:.2f} s)")
+
+    print("\n4. Workbook sweeps (in process, compiled model reused)")
+    for label, data, vary, outs in (
+        ("bench, input used by every formula", ours, ["Inputs!B1=1:20:1"], ["total_energy_Wh"]),
+        ("bench, input used by one column", ours, ["Inputs!B6=1:40:1"], ["average_count"]),
+    ):
+        dt, n = workbook_sweep(data, "bench.xlsx", vary, outs)
+        print(f"   {label}: {n} scenarios in {dt:.2f} s = {n / dt:6.1f} scenarios/s")
+    try:
+        from udfs.engine import templates
+
+        made = templates.demo_workbook()
+    except Exception as exc:  # the template builders are another module's work
+        made = None
+        print(f"   demo workbook unavailable ({type(exc).__name__}: {exc})")
+    if made is not None:
+        _, demo = made
+        m = load_model(demo, "demo.xlsx")
+        if "in_np_ratio" in m.named_cells and "out_cost_per_kWh_USD" in m.named_cells:
+            dt, n = workbook_sweep(
+                demo, "demo.xlsx", ["in_np_ratio=1.05:1.2:0.01"], ["out_cost_per_kWh_USD"]
+            )
+            print(
+                f"   cell-sizing template ({m.formula_count} formulas), in_np_ratio: "
+                f"{n} scenarios in {dt:.2f} s = {n / dt:6.1f} scenarios/s"
+            )
+    shutil.rmtree(work, ignore_errors=True)
+
+
+if __name__ == "__main__":
+    main()

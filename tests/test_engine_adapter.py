@@ -1,0 +1,137 @@
+"""The one adapter between the `formulas` engine and the sheet functions."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import schedula as sh
+from formulas.functions import Array, get_functions
+from formulas.ranges import Ranges
+from formulas.tokens.operand import Error
+
+from udfs.engine import adapter
+from udfs.engine.adapter import SheetFunctionAdapter, from_engine, register, to_engine
+from udfs.sheet.errors import SheetError
+
+
+def test_engine_values_become_plain_cell_values():
+    assert from_engine(sh.EMPTY) is None
+    assert from_engine(np.float64(2.5)) == 2.5 and type(from_engine(np.float64(2.5))) is float
+    assert from_engine(np.bool_(True)) is True
+    assert from_engine(np.int64(3)) == 3 and type(from_engine(np.int64(3))) is int
+    err = from_engine(Error.errors["#NUM!"])
+    assert isinstance(err, SheetError) and err.code == "#NUM!"
+    assert from_engine("LiFePO4") == "LiFePO4"
+
+
+def test_sheet_errors_become_the_engines_own_error_values():
+    # identity matters: the engine's ISERR/ISNA compare with `is`
+    for code in ("#NUM!", "#VALUE!", "#N/A", "#DIV/0!", "#REF!", "#NAME?", "#NULL!"):
+        assert to_engine(SheetError(code, "why")) is Error.errors[code]
+
+
+def test_non_finite_results_become_num_errors():
+    assert to_engine(float("nan")) is Error.errors["#NUM!"]
+    assert to_engine(float("inf")) is Error.errors["#NUM!"]
+    assert to_engine(np.float64(-np.inf)) is Error.errors["#NUM!"]
+
+
+def test_scalar_error_arguments_propagate_without_calling():
+    calls = []
+
+    def spy(*args):
+        calls.append(args)
+        return 1.0
+
+    f = SheetFunctionAdapter("CW_TEST_SPY", spy)
+    assert f(Error.errors["#DIV/0!"], 2.0) is Error.errors["#DIV/0!"]
+    assert calls == []
+
+
+def test_ranges_arrive_as_2d_lists_with_none_for_empty_and_errors_as_elements():
+    seen = []
+
+    def grab(x):
+        seen.append(x)
+        return 0.0
+
+    f = SheetFunctionAdapter("CW_TEST_GRAB", grab)
+    rng = Ranges().push("A1:B2", np.array([[1, sh.EMPTY], [Error.errors["#N/A"], "t"]], object))
+    assert f(rng) == 0.0
+    (value,) = seen
+    assert value[0] == [1, None]
+    assert isinstance(value[1][0], SheetError) and value[1][0].code == "#N/A"
+    assert value[1][1] == "t"
+
+
+def test_one_cell_range_and_computed_scalars_arrive_as_scalars():
+    seen = []
+
+    def grab(x):
+        seen.append(x)
+        return 1.0
+
+    f = SheetFunctionAdapter("CW_TEST_GRAB1", grab)
+    f(Ranges().push("A1", np.array([[np.float64(4.0)]], object)))
+    f(np.asarray(5.0, dtype=object).view(Array))
+    assert seen == [4.0, 5.0]
+    assert all(type(v) is float for v in seen)
+
+
+def test_exceptions_never_escape_and_their_message_is_kept():
+    def broken(x):
+        raise ZeroDivisionError("boom")
+
+    f = SheetFunctionAdapter("CW_TEST_BROKEN", broken)
+    assert f(1.0) is Error.errors["#VALUE!"]
+    assert any("ZeroDivisionError: boom" in m for m in adapter.messages_for("CW_TEST_BROKEN"))
+
+
+def test_error_messages_are_remembered_per_function_and_bounded():
+    f = SheetFunctionAdapter("CW_TEST_MSG", lambda x: SheetError("#NUM!", f"x must be > 0 ({x})"))
+    for i in range(adapter.MAX_MESSAGES_PER_FUNCTION + 5):
+        f(float(-i))
+    msgs = adapter.messages_for("CW_TEST_MSG")
+    assert len(msgs) == adapter.MAX_MESSAGES_PER_FUNCTION
+    assert msgs[-1].startswith("#NUM! x must be > 0")
+
+
+def test_two_d_results_become_engine_arrays_showing_top_left_in_one_cell():
+    f = SheetFunctionAdapter("CW_TEST_GRID", lambda: [[1.0, SheetError("#N/A")], [3, "x"]])
+    out = f()
+    assert isinstance(out, Array) and out.shape == (2, 2)
+    assert out[0, 1] is Error.errors["#N/A"]
+    assert out.reshape((1, 1))[0, 0] == 1.0  # a one-cell formula shows the first value
+    assert SheetFunctionAdapter("CW_TEST_ONE", lambda: [[7.0]])() == 7.0
+    assert SheetFunctionAdapter("CW_TEST_ROW", lambda: [1.0, 2.0])().shape == (1, 2)
+
+
+def test_unsupported_results_are_value_errors():
+    assert SheetFunctionAdapter("CW_TEST_DICT", lambda: {"a": 1})() is Error.errors["#VALUE!"]
+    assert SheetFunctionAdapter("CW_TEST_3D", lambda: [[[1]]])() is Error.errors["#VALUE!"]
+    assert SheetFunctionAdapter("CW_TEST_NONE", lambda: None)() is sh.EMPTY
+
+
+def test_register_adds_the_name_and_the_excel_udf_alias_once():
+    def f(x):
+        return x
+
+    gen0 = register({"cw_test_alias": f})
+    table = get_functions()
+    assert isinstance(table["CW_TEST_ALIAS"], SheetFunctionAdapter)
+    assert table["_XLUDF.CW_TEST_ALIAS"] is table["CW_TEST_ALIAS"]
+    assert register({"CW_TEST_ALIAS": f}) == gen0  # unchanged: same generation
+    assert register({"CW_TEST_ALIAS": lambda x: x}) == gen0 + 1
+
+
+def test_real_registry_is_registered_when_present():
+    funcs = adapter.sheet_functions()
+    if not funcs:
+        pytest.skip("udfs.sheet.registry not available yet")
+    adapter.ensure_registered()
+    table = get_functions()
+    assert set(funcs) <= set(adapter.registered_names())
+    name = sorted(funcs)[0]
+    assert table[name].func is funcs[name]
+    if "CW_MOLAR_MASS" in funcs:  # the adapter returns what a direct call returns
+        assert table["CW_MOLAR_MASS"]("H2O") == funcs["CW_MOLAR_MASS"]("H2O")

@@ -1,0 +1,301 @@
+"""Hostile workbooks: each is built here, refused (or reported) with a clear message,
+within bounded time (10 s, a safety bound, not a speed target) and memory.
+"""
+
+from __future__ import annotations
+
+import io
+import os
+import time
+import tracemalloc
+import zipfile
+from collections.abc import Mapping
+
+import pytest
+
+from udfs.engine.errors import HostileFileError, WorkbookError
+from udfs.engine.guard import (
+    MAX_NESTING,
+    Limits,
+    formula_nesting,
+    inspect_package,
+)
+from udfs.engine.model import load_model
+from udfs.sheet.errors import SheetError
+
+MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
+REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
+BOUND_S = 10.0
+
+CONTENT_TYPES = (
+    '<?xml version="1.0" encoding="UTF-8"?>'
+    '<Types xmlns="http://schemas.openxmlformats.org/package/2006/content-types">'
+    '<Default Extension="rels" ContentType="application/vnd.openxmlformats-package.'
+    'relationships+xml"/><Default Extension="xml" ContentType="application/xml"/>'
+    '<Override PartName="/xl/workbook.xml" ContentType="application/vnd.openxmlformats-'
+    'officedocument.spreadsheetml.sheet.main+xml"/>'
+    '<Override PartName="/xl/worksheets/sheet1.xml" ContentType="application/vnd.'
+    'openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>'
+    '<Override PartName="/xl/sharedStrings.xml" ContentType="application/vnd.openxmlformats-'
+    'officedocument.spreadsheetml.sharedStrings+xml"/></Types>'
+)
+ROOT_RELS = (
+    f'<Relationships xmlns="{PKG_REL}"><Relationship Id="rId1" Type="{REL}/officeDocument" '
+    'Target="xl/workbook.xml"/></Relationships>'
+)
+WB_RELS = (
+    f'<Relationships xmlns="{PKG_REL}">'
+    f'<Relationship Id="rId1" Type="{REL}/worksheet" Target="worksheets/sheet1.xml"/>'
+    f'<Relationship Id="rId2" Type="{REL}/sharedStrings" Target="sharedStrings.xml"/>'
+    "</Relationships>"
+)
+
+
+def workbook_xml(extra: str = "") -> str:
+    return (
+        f'<workbook xmlns="{MAIN}" xmlns:r="{REL}"><sheets>'
+        f'<sheet name="S" sheetId="1" r:id="rId1"/></sheets>{extra}</workbook>'
+    )
+
+
+def sheet_xml(rows: str = '<row r="1"><c r="A1"><v>1</v></c></row>') -> str:
+    return f'<worksheet xmlns="{MAIN}"><sheetData>{rows}</sheetData></worksheet>'
+
+
+def package(
+    sheet: str | None = None,
+    workbook: str | None = None,
+    strings: str = f'<sst xmlns="{MAIN}" count="0" uniqueCount="0"/>',
+    extra: Mapping[str, bytes | str] | None = None,
+    compression: int = zipfile.ZIP_DEFLATED,
+) -> bytes:
+    """A minimal .xlsx package, with any part replaced or added."""
+    parts: dict[str, bytes | str] = {
+        "[Content_Types].xml": CONTENT_TYPES,
+        "_rels/.rels": ROOT_RELS,
+        "xl/workbook.xml": workbook if workbook is not None else workbook_xml(),
+        "xl/_rels/workbook.xml.rels": WB_RELS,
+        "xl/worksheets/sheet1.xml": sheet if sheet is not None else sheet_xml(),
+        "xl/sharedStrings.xml": strings,
+    }
+    parts.update(extra or {})
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w", compression) as zf:
+        for name, data in parts.items():
+            zf.writestr(name, data)
+    return buf.getvalue()
+
+
+def code(value: object) -> str:
+    """The code of an error value (fails if ``value`` is not one)."""
+    assert isinstance(value, SheetError), value
+    return value.code
+
+
+def refused(data: bytes, limits: Limits | None = None) -> str:
+    """The refusal message; also checks the time bound."""
+    t0 = time.perf_counter()
+    with pytest.raises((HostileFileError, WorkbookError)) as info:
+        if limits is None:
+            inspect_package(data, "hostile.xlsx")
+        else:
+            inspect_package(data, "hostile.xlsx", limits)
+    assert time.perf_counter() - t0 < BOUND_S
+    message = str(info.value)
+    assert "\n" not in message and "Traceback" not in message
+    return message
+
+
+def test_the_minimal_package_itself_is_accepted_and_evaluates():
+    data = package(sheet_xml('<row r="1"><c r="A1"><v>2</v></c><c r="B1"><f>A1*3</f></c></row>'))
+    rep = inspect_package(data, "ok.xlsx")
+    assert (rep.cells, rep.formula_cells, rep.rows) == (2, 1, 1)
+    assert load_model(data, "ok.xlsx").evaluate().value("S!B1") == 6
+
+
+def test_entity_expansion_is_refused():
+    lol = (
+        '<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol">'
+        '<!ENTITY lol2 "&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;&lol;">'
+        '<!ENTITY lol3 "&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;&lol2;">]>'
+    )
+    rows = '<row r="1"><c r="A1" t="inlineStr"><is><t>&lol3;</t></is></c></row>'
+    msg = refused(package(sheet=lol + sheet_xml(rows)))
+    assert "xl/worksheets/sheet1.xml declares a DTD or entities" in msg
+
+
+def test_external_entity_is_refused():
+    xxe = '<?xml version="1.0"?><!DOCTYPE r [<!ENTITY x SYSTEM "file:///etc/passwd">]>'
+    msg = refused(package(workbook=xxe + workbook_xml()))
+    assert "xl/workbook.xml declares a DTD or entities" in msg
+
+
+def test_dtd_in_a_part_nobody_reads_is_refused_too():
+    bad = '<?xml version="1.0"?><!DOCTYPE r [<!ENTITY a "b">]><r/>'
+    msg = refused(package(extra={"docProps/custom.xml": bad}))
+    assert "docProps/custom.xml declares a DTD" in msg
+
+
+def test_zip_bomb_is_refused_from_the_directory_without_inflating():
+    zeros = b"\0" * (80 * 1024 * 1024)  # 80 MiB of zeros deflate to about 80 kB
+    data = package(extra={"xl/media/bomb.bin": zeros})
+    del zeros
+    tracemalloc.start()
+    try:
+        msg = refused(data)
+        peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert "part xl/media/bomb.bin unpacks to 80 MiB (limit 64 MiB per part)" in msg
+    assert peak < 16 * 1024 * 1024  # nothing was inflated
+
+
+def test_highly_compressed_part_is_refused():
+    msg = refused(package(extra={"xl/media/zeros.bin": b"\0" * (4 * 1024 * 1024)}))
+    assert "part xl/media/zeros.bin compresses" in msg and "limit 100:1" in msg
+
+
+def test_total_size_is_limited():
+    blobs = {f"xl/media/r{i}.bin": os.urandom(600_000) for i in range(4)}
+    msg = refused(package(extra=blobs), Limits(total_bytes=2 * 1024 * 1024))
+    assert "parts unpack to 2.3 MiB in all (limit 2 MiB)" in msg
+
+
+def test_file_itself_too_large():
+    msg = refused(
+        package(extra={"xl/media/r.bin": os.urandom(300_000)}), Limits(input_bytes=100_000)
+    )
+    assert "file is 30" in msg and "bytes (limit 100,000 bytes)" in msg
+
+
+def test_too_many_parts():
+    extra = {f"xl/media/p{i}.bin": b"x" for i in range(1001)}
+    assert "zip parts (limit 1000)" in refused(package(extra=extra))
+
+
+def test_unusual_compression_is_refused():
+    data = package(compression=zipfile.ZIP_BZIP2)
+    assert "compression method spreadsheets do not use" in refused(data)
+
+
+def test_duplicate_and_encrypted_parts():
+    buf = io.BytesIO(package())
+    with zipfile.ZipFile(buf, "a") as zf, pytest.warns(UserWarning):
+        zf.writestr("xl/workbook.xml", workbook_xml())
+    assert "two parts with the same name" in refused(buf.getvalue())
+    data = bytearray(package())
+    # set the "encrypted" flag of every entry (local headers and central directory)
+    for sig, off in ((b"PK\x03\x04", 6), (b"PK\x01\x02", 8)):
+        i = data.find(sig)
+        while i >= 0:
+            data[i + off] |= 1
+            i = data.find(sig, i + 4)
+    assert "is encrypted" in refused(bytes(data))
+
+
+def test_millions_of_empty_rows():
+    rows = "".join(f'<row r="{i}"/>' for i in range(1, 1_000_001))
+    assert "more than 250,000 rows" in refused(package(sheet=sheet_xml(rows)))
+    same = "<row/>" * 3_000_000  # identical rows: stopped at the zip directory already
+    assert "compresses" in refused(package(sheet=sheet_xml(same)))
+
+
+def test_too_many_cells_and_formula_cells():
+    cells = "".join(f'<c r="A{i}"><v>{i}</v></c>' for i in range(1, 2001))
+    many = package(sheet=sheet_xml(f"<row>{cells}</row>"))
+    assert "more than 1,000 cells" in refused(many, Limits(cells=1000))
+    f = "".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, 102))
+    assert "more than 100 formula cells" in refused(
+        package(sheet=sheet_xml(f"<row>{f}</row>")), Limits(formula_cells=100)
+    )
+
+
+def test_enormous_shared_strings_table():
+    sst = "".join(f"<si><t>s{i}</t></si>" for i in range(500_001))
+    data = package(strings=f'<sst xmlns="{MAIN}">{sst}</sst>')
+    assert "more than 500,000 shared strings" in refused(data)
+
+
+def test_formula_nested_past_excels_limit():
+    deep = "ABS(" * (MAX_NESTING + 1) + "1" + ")" * (MAX_NESTING + 1)
+    data = package(sheet=sheet_xml(f'<row r="1"><c r="A1"><f>{deep}</f></c></row>'))
+    assert "nests 65 function calls (limit 64, as in Excel)" in refused(data)
+    ok = "ABS(" * MAX_NESTING + "1" + ")" * MAX_NESTING
+    inspect_package(package(sheet=sheet_xml(f'<row r="1"><c r="A1"><f>{ok}</f></c></row>')), "x")
+
+
+def test_formula_longer_than_excels_limit():
+    long = "+".join(["1"] * 4200)
+    data = package(sheet=sheet_xml(f'<row r="1"><c r="A1"><f>{long}</f></c></row>'))
+    assert "8,399 characters long (limit 8,192)" in refused(data)
+
+
+def test_too_many_defined_names():
+    names = "".join(f'<definedName name="n{i}">S!$A$1</definedName>' for i in range(11))
+    data = package(workbook=workbook_xml(f"<definedNames>{names}</definedNames>"))
+    assert "more than 10 defined names" in refused(data, Limits(defined_names=10))
+
+
+@pytest.mark.parametrize(
+    ("data", "message"),
+    [
+        (b"hello, not a zip", "not an .xlsx workbook (not a zip archive)"),
+        (b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + b"\0" * 512, "password-protected workbook"),
+        (package()[:200], "not a zip archive"),
+    ],
+)
+def test_not_a_workbook(data, message):
+    assert message in refused(data)
+
+
+def test_zip_without_workbook_parts():
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w") as zf:
+        zf.writestr("hello.txt", "hi")
+    assert "no [Content_Types].xml" in refused(buf.getvalue())
+
+
+def test_damaged_sheet_xml():
+    msg = refused(package(sheet=f'<worksheet xmlns="{MAIN}"><sheetData><row>'))
+    assert "damaged part xl/worksheets/sheet1.xml" in msg
+
+
+def test_external_links_are_reported_and_not_followed():
+    link = (
+        f'<externalLink xmlns="{MAIN}"><externalBook xmlns:r="{REL}" r:id="rId1"/></externalLink>'
+    )
+    link_rels = (
+        f'<Relationships xmlns="{PKG_REL}"><Relationship Id="rId1" Type="{REL}/externalLinkPath"'
+        ' Target="file:///C:/secret/prices.xlsx" TargetMode="External"/></Relationships>'
+    )
+    rows = '<row r="1"><c r="A1"><f>\'[1]Prices\'!B2*2</f></c></row>'
+    data = package(
+        sheet=sheet_xml(rows),
+        extra={
+            "xl/externalLinks/externalLink1.xml": link,
+            "xl/externalLinks/_rels/externalLink1.xml.rels": link_rels,
+        },
+    )
+    rep = inspect_package(data, "linked.xlsx")
+    assert rep.external_links == ["file:///C:/secret/prices.xlsx"]
+    assert any("external links not followed" in n for n in rep.notes)
+    ev = load_model(data, "linked.xlsx").evaluate()
+    assert code(ev.value("S!A1")) == "#REF!"
+
+
+def test_circular_references_are_reported_not_looped():
+    rows = (
+        '<row r="1"><c r="A1"><f>B1+1</f></c><c r="B1"><f>C1+1</f></c>'
+        '<c r="C1"><f>A1+1</f></c></row>'
+    )
+    t0 = time.perf_counter()
+    ev = load_model(package(sheet=sheet_xml(rows)), "loop.xlsx").evaluate()
+    assert time.perf_counter() - t0 < BOUND_S
+    text = "\n".join(str(d) for d in ev.errors())
+    assert "circular reference: S!A1 -> S!B1 -> S!C1; not evaluated" in text
+
+
+def test_nesting_counts_calls_not_strings_or_grouping():
+    assert formula_nesting('IF(A1>0,"((((",(1+2)*3)') == 1
+    assert formula_nesting("'a(b'!A1+SUM(MAX(1,2))") == 2

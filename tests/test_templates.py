@@ -1,0 +1,292 @@
+"""The template builders: structure, protection, names, validations, the
+committed files in workbook_templates/, and the CellSpec <-> inputs bridge.
+
+Numbers here are layout facts of our own templates (common practice for
+spreadsheets: inputs unlocked, formulas locked), not reference values.
+"""
+
+from __future__ import annotations
+
+import io
+from pathlib import Path
+from typing import Any
+
+import pytest
+from openpyxl import Workbook, load_workbook
+from openpyxl.utils import get_column_letter
+from openpyxl.worksheet.formula import ArrayFormula
+
+from udfs.core.errors import CellwrightError
+from udfs.core.sizing import CellSpec
+from udfs.templates import TEMPLATES, build_demo, fill_demo, fill_spec
+from udfs.templates.__main__ import main as templates_main
+from udfs.templates.sizing_inputs import COMPONENTS, input_values, set_inputs, spec_inputs
+from udfs.templates.snapshot import diff_snapshots, reproducible_bytes, snapshot
+
+ROOT = Path(__file__).resolve().parents[1]
+COMMITTED = ROOT / "workbook_templates"
+
+SHEETS = {
+    "cell_sizing": ["Inputs", "Electrodes", "Bill of materials", "Procurement", "What-if",
+                    "Notes", "Lists"],
+    "potentials": ["Potentials", "Sweep", "Notes", "Lists"],
+    "electrolysis": ["Electrolysis", "Notes"],
+}
+
+
+@pytest.fixture(scope="module")
+def books() -> dict[str, Workbook]:
+    return {name: build() for name, build in TEMPLATES.items()}
+
+
+def _cell(wb: Workbook, name: str) -> Any:
+    sheet, ref = next(iter(wb.defined_names[name].destinations))
+    return wb[sheet][ref.replace("$", "")]
+
+
+def test_registry_names_the_three_templates() -> None:
+    assert set(TEMPLATES) == {"cell_sizing", "potentials", "electrolysis"}
+    assert all(callable(b) for b in TEMPLATES.values())
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_sheets_in_working_order_and_opens_on_inputs(books: dict[str, Workbook], name: str) -> None:
+    wb = books[name]
+    assert wb.sheetnames == SHEETS[name]
+    assert wb.active.title == SHEETS[name][0]
+    assert [ws.sheet_state for ws in wb.worksheets].count("visible") == len(
+        [s for s in SHEETS[name] if s != "Lists"]
+    )
+    if "Lists" in wb.sheetnames:
+        assert wb["Lists"].sheet_state == "hidden"
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_inputs_unlocked_formulas_locked_sheets_protected(
+    books: dict[str, Workbook], name: str
+) -> None:
+    wb = books[name]
+    inputs = [n for n in wb.defined_names if n.startswith("in_")]
+    assert len(inputs) >= 8
+    for n in inputs:
+        cell = _cell(wb, n)
+        assert not cell.protection.locked, n
+        assert not (isinstance(cell.value, str) and cell.value.startswith("=")), n
+    formulas = 0
+    for ws in wb.worksheets:
+        assert ws.protection.sheet, ws.title
+        assert not ws.protection.password, ws.title  # protection without a password
+        for row in ws.iter_rows():
+            for c in row:
+                if isinstance(c.value, ArrayFormula) or (
+                    isinstance(c.value, str) and c.value.startswith("=")
+                ):
+                    formulas += 1
+                    assert c.protection.locked, f"{ws.title}!{c.coordinate}"
+    assert formulas > 20
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_outputs_are_named_formula_cells(books: dict[str, Workbook], name: str) -> None:
+    wb = books[name]
+    outs = [n for n in wb.defined_names if n.startswith("out_")]
+    assert len(outs) >= 6
+    for n in outs:
+        value = _cell(wb, n).value
+        assert isinstance(value, str) and value.startswith("="), n
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_every_input_has_unit_hint_and_validation_message(
+    books: dict[str, Workbook], name: str
+) -> None:
+    wb = books[name]
+    validated: dict[str, set[str]] = {}
+    for ws in wb.worksheets:
+        for dv in ws.data_validations.dataValidation:
+            assert dv.prompt and dv.error and dv.showErrorMessage, (ws.title, dv.sqref)
+            assert len(dv.prompt) <= 255 and len(dv.promptTitle or "") <= 32
+            for rng in dv.sqref.ranges:
+                validated.setdefault(ws.title, set()).update(
+                    f"{get_column_letter(col)}{row}" for row, col in rng.cells
+                )
+    unvalidated = []
+    for n in (n for n in wb.defined_names if n.startswith("in_")):
+        sheet, ref = next(iter(wb.defined_names[n].destinations))
+        if ref.replace("$", "") not in validated.get(sheet, set()) and n != "in_scenario":
+            unvalidated.append(n)
+    # free text inputs: species names and product formulas are checked by the CW_ functions
+    assert all(("species" in n) or n.endswith("_product") for n in unvalidated), unvalidated
+
+
+def test_cell_sizing_units_and_hints_beside_inputs(books: dict[str, Workbook]) -> None:
+    ws = books["cell_sizing"]["Inputs"]
+    for n, dn in books["cell_sizing"].defined_names.items():
+        sheet, ref = next(iter(dn.destinations))
+        if not n.startswith("in_") or sheet != "Inputs" or n.startswith("in_price"):
+            continue
+        row = int(ref.split("$")[-1])
+        if n == "in_scenario":
+            continue
+        assert ws[f"B{row}"].value, n  # label
+        assert ws[f"E{row}"].value, n  # one-line hint
+        assert ws[f"D{row}"].value is not None or n.endswith("_basis"), n  # unit
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_print_settings_fit_one_page(books: dict[str, Workbook], name: str) -> None:
+    for ws in books[name].worksheets:
+        if ws.sheet_state == "hidden":
+            continue
+        assert ws.sheet_properties.pageSetUpPr.fitToPage, ws.title
+        assert ws.page_setup.fitToWidth == 1 and ws.page_setup.fitToHeight == 1, ws.title
+
+
+def test_cell_sizing_has_charts_and_one_formula_grids(books: dict[str, Workbook]) -> None:
+    wb = books["cell_sizing"]
+    assert len(wb["Bill of materials"]._charts) == 1
+    assert len(wb["Procurement"]._charts) == 1
+    for grid in ("wi_cost_per_kWh", "wi_Wh_kg"):
+        sheet, ref = next(iter(wb.defined_names[grid].destinations))
+        first = ref.split(":")[0].replace("$", "")
+        formula = wb[sheet][first].value
+        assert isinstance(formula, ArrayFormula)
+        assert formula.ref.replace("$", "") == ref.replace("$", "")  # one formula, whole grid
+    assert wb["What-if"].conditional_formatting  # colour scales
+    assert len(books["potentials"]["Sweep"]._charts) == 1
+
+
+def test_drop_downs_are_fed_by_the_catalogue(books: dict[str, Workbook]) -> None:
+    from udfs.core import catalogue
+
+    wb = books["cell_sizing"]
+    sheet, ref = next(iter(wb.defined_names["list_cathode"].destinations))
+    names = [c.value for row in wb[sheet][ref.replace("$", "")] for c in row]
+    assert names == catalogue.material_names("cathode")
+    dvs = [dv for dv in wb["Inputs"].data_validations.dataValidation if dv.type == "list"]
+    assert any(dv.formula1 == "list_cathode" for dv in dvs)
+    pw = books["potentials"]
+    sheet, ref = next(iter(pw.defined_names["list_couple"].destinations))
+    assert [c.value for row in pw[sheet][ref.replace("$", "")] for c in row] == (
+        catalogue.couple_ids()
+    )
+
+
+@pytest.mark.parametrize("name", sorted(SHEETS))
+def test_committed_template_equals_its_builder(name: str) -> None:
+    path = COMMITTED / f"{name}.xlsx"
+    assert path.is_file(), f"{path} missing: run python -m udfs.templates --write"
+    diffs = diff_snapshots(snapshot(load_workbook(path)), snapshot(TEMPLATES[name]()))
+    assert not diffs, "\n".join([f"{path.name} drifted from its builder:", *diffs])
+
+
+def test_snapshot_sees_a_changed_formula_name_and_validation() -> None:
+    base = TEMPLATES["electrolysis"]()
+    changed = TEMPLATES["electrolysis"]()
+    sheet, ref = next(iter(changed.defined_names["out_plating_kg_h"].destinations))
+    changed[sheet][ref.replace("$", "")] = "=1"
+    del changed.defined_names["in_water_hours"]
+    changed["Electrolysis"].data_validations.dataValidation[0].prompt = "changed"
+    diffs = diff_snapshots(snapshot(base), snapshot(changed))
+    assert any(ref.replace("$", "") in d for d in diffs)
+    assert any("in_water_hours" in d for d in diffs)
+    assert any("validations" in d for d in diffs)
+
+
+def test_builder_output_is_reproducible_bytes() -> None:
+    a = reproducible_bytes(TEMPLATES["potentials"]())
+    b = reproducible_bytes(TEMPLATES["potentials"]())
+    assert a == b
+    assert snapshot(load_workbook(io.BytesIO(a))) == snapshot(load_workbook(io.BytesIO(b)))
+
+
+def test_write_then_check_command(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.delitem(TEMPLATES, "cell_sizing")  # the two small ones are enough here
+    assert templates_main(["--write", "--dir", str(tmp_path)]) == 0
+    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(f"{n}.xlsx" for n in TEMPLATES)
+    assert templates_main(["--check", "--dir", str(tmp_path)]) == 0
+    wb = load_workbook(tmp_path / "potentials.xlsx")
+    wb["Potentials"]["B2"] = "edited"
+    wb.save(tmp_path / "potentials.xlsx")
+    assert templates_main(["--check", "--dir", str(tmp_path)]) == 1
+    assert "differs from its builder" in capsys.readouterr().out
+    assert templates_main(["--write", "--dir", str(tmp_path)]) == 0
+    assert templates_main(["--check", "--dir", str(tmp_path)]) == 0
+
+
+# ----------------------------------------------------------------- CellSpec <-> inputs
+
+
+def test_spec_inputs_cover_every_sizing_input() -> None:
+    spec = CellSpec("LFP", "graphite", target_energy_Wh=100.0, cathode_areal_capacity_mAh_cm2=3.0,
+                    cathode_binder={"PVDF": 0.7, "CMC": 0.3}, anode_binder="SBR",
+                    prices={"LFP": 7.0, "PE separator": (0.9, "USD/m^2")})
+    values = spec_inputs(spec, order_cells=1000)
+    wb = TEMPLATES["cell_sizing"]()
+    names = {n for n in wb.defined_names if n.startswith("in_")}
+    assert set(values) == names - {"in_scenario"}
+    assert values["in_cathode"] == "LiFePO4"  # the catalogue's spelling, not the alias
+    assert values["in_cathode_binder2"] == "CMC" and values["in_cathode_binder2_share"] == 0.3
+    assert values["in_anode_binder2"] is None and values["in_anode_binder2_share"] == 0.0
+    assert values["in_price_cathode_active"] == 7.0
+    assert values["in_price_unit_separator"] == "USD/m^2"
+    assert values["in_price_anode_active"] is None  # demo price list
+    assert values["in_order_basis"] == "cells" and values["in_order_size"] == 1000.0
+
+
+def test_fill_spec_writes_inputs_only() -> None:
+    wb = fill_spec(TEMPLATES["cell_sizing"](), CellSpec(
+        "NMC622", "graphite", target_capacity_Ah=20.0, cathode_loading_mg_cm2=18.0,
+        np_ratio=1.2), order_MWh=3.0)
+    values = input_values(wb)
+    assert values["in_cathode"] == "NMC622" and values["in_np_ratio"] == 1.2
+    assert values["in_target"] == 20.0 and values["in_order_size"] == 3.0
+    with pytest.raises(CellwrightError, match="computed cell"):
+        set_inputs(wb, {"out_energy_Wh": 1.0})
+    with pytest.raises(CellwrightError, match="not an input"):
+        set_inputs(wb, {"in_nonsense": 1.0})
+
+
+def test_fill_spec_refuses_what_one_workbook_cannot_hold() -> None:
+    wb = TEMPLATES["cell_sizing"]()
+    with pytest.raises(CellwrightError, match="single number"):
+        fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=[10.0, 20.0],
+                               cathode_loading_mg_cm2=20.0))
+    with pytest.raises(CellwrightError, match="USD/kg or USD/m\\^2"):
+        fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=10.0,
+                               cathode_loading_mg_cm2=20.0, prices={"graphite": (5.0, "EUR/kg")}))
+    with pytest.raises(CellwrightError, match="cell-sizing"):
+        fill_spec(TEMPLATES["potentials"](), CellSpec("NMC811", "graphite",
+                                                       target_capacity_Ah=10.0,
+                                                       cathode_loading_mg_cm2=20.0))
+    with pytest.raises(CellwrightError, match="spec"):
+        fill_spec(wb, "not a spec")  # type: ignore[arg-type]
+
+
+def test_demo_fill_is_labelled_demo_data() -> None:
+    from udfs.demo import DEMO_LABEL, demo_spec
+
+    wb = build_demo()
+    values = input_values(wb)
+    assert DEMO_LABEL in values["in_scenario"]
+    assert values["in_cathode"] == demo_spec().cathode
+    assert values["in_target"] == float(demo_spec().target_capacity_Ah)  # type: ignore[arg-type]
+    again = fill_demo(TEMPLATES["cell_sizing"]())
+    assert input_values(again) == values
+
+
+def test_components_match_the_core_bill_of_materials() -> None:
+    from udfs.core.sizing import design_cell
+    from udfs.demo import demo_spec
+
+    d = design_cell(demo_spec())
+    spec = demo_spec()
+    names = []
+    for c in COMPONENTS:
+        value = spec_inputs(spec)[c.material]
+        if c.optional and value is None:
+            continue
+        names.append(c.core_name(str(value)))
+    assert names == list(d.components)

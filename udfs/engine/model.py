@@ -1,0 +1,690 @@
+"""A workbook compiled once by the `formulas` engine and evaluated many times.
+
+:func:`load_model` checks the bytes (:mod:`udfs.engine.guard`), compiles them
+and keeps the compiled model in memory keyed by the SHA-256 of the file's
+content (and the generation of the function registry), so evaluating the same
+workbook again -- with the same or new input values -- skips loading and
+parsing. The first evaluation with a given set of input cells runs the whole
+model; from the second on, the model is reduced to the cells those inputs
+reach (a compiled "pipe") and only they are recomputed.
+
+Problems are reported as :class:`Diagnostic` lines naming the sheet and cell:
+circular references, unsupported functions (``#NAME?``), error values (with
+the reason our functions gave), never a stack trace.
+
+>>> import io, openpyxl
+>>> wb = openpyxl.Workbook(); ws = wb.active; ws.title = "Calc"
+>>> ws["A1"] = 2; ws["A2"] = "=A1*21"
+>>> buf = io.BytesIO(); wb.save(buf)
+>>> model = load_model(buf.getvalue(), "demo.xlsx")
+>>> model.evaluate().value("Calc!A2"), model.evaluate({"Calc!A1": 3}).value("Calc!A2")
+(42.0, 63.0)
+"""
+
+from __future__ import annotations
+
+import contextlib
+import functools
+import hashlib
+import io
+import logging
+import os
+import re
+import time
+import types
+import warnings
+from collections import OrderedDict
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
+from typing import Any, NamedTuple
+
+import formulas
+import formulas.excel as _formulas_excel
+import numpy as np
+import schedula as sh
+import tqdm
+from formulas.cell import InvRangesAssembler, Ref
+from formulas.excel import BOOK
+from formulas.excel.xlreader import load_workbook
+from formulas.functions import get_functions
+from formulas.ranges import Ranges
+
+from udfs.sheet.errors import SheetError
+
+from .adapter import (
+    CellValue,
+    ensure_registered,
+    from_engine,
+    messages_for,
+    registered_names,
+)
+from .errors import EngineError, WorkbookError
+from .guard import DEFAULT_LIMITS, Limits, PackageReport, inspect_package
+from .lean import LeanPipe, UnsupportedPipeError, leanify_cells
+from .package import Package
+from .refs import CellRef, col_letters, parse_cell, split_coordinate
+
+__all__ = [
+    "INTERNAL_BOOK",
+    "Diagnostic",
+    "Evaluation",
+    "NamedValue",
+    "WorkbookModel",
+    "clear_cache",
+    "load_model",
+]
+
+INTERNAL_BOOK = "BOOK.XLSX"  # the name the engine knows the workbook by: cache hits across names
+MAX_CACHED_MODELS = 4
+MAX_DERIVED_MODELS = 8
+MAX_REPORTED_ERRORS = 20
+_MISSING_BASEDIR = "/nonexistent/cellwright-engine-no-external-files"
+#: Replay compiled pipes with :class:`udfs.engine.lean.LeanPipe` (CELLWRIGHT_LEAN=0 turns off).
+LEAN = os.environ.get("CELLWRIGHT_LEAN", "1") != "0"
+_FUNCTION_CALL = re.compile(r"(?<![\w.])([A-Za-z_][\w.]*)\s*\(")
+_STRING = re.compile(r'"(?:[^"]|"")*"')
+
+# formulas shows a tqdm progress bar while compiling; the CLI draws its own.
+_formulas_excel.tqdm = types.SimpleNamespace(tqdm=functools.partial(tqdm.tqdm, disable=True))
+
+Override = float | int | bool | str
+
+
+class Diagnostic(NamedTuple):
+    """One problem found while compiling or evaluating, with its cell if any."""
+
+    kind: str  # "circular", "unsupported", "error", "note"
+    ref: CellRef | None
+    message: str
+
+    def __str__(self) -> str:
+        return f"{self.ref.address}: {self.message}" if self.ref else self.message
+
+
+class NamedValue(NamedTuple):
+    """A defined name that refers to one cell, with the cell's value."""
+
+    name: str
+    ref: CellRef
+    value: CellValue
+    is_output: bool  # the cell holds a formula
+
+
+@contextlib.contextmanager
+def _quiet() -> Iterator[None]:
+    """Silence the libraries' own logging and warnings (we report problems ourselves)."""
+    loggers = [logging.getLogger(n) for n in ("formulas", "schedula", "openpyxl")]
+    levels = [lg.level for lg in loggers]
+    for lg in loggers:
+        lg.setLevel(logging.CRITICAL + 1)
+    try:
+        with warnings.catch_warnings(), np.errstate(all="ignore"):
+            warnings.simplefilter("ignore")
+            yield
+    finally:
+        for lg, level in zip(loggers, levels, strict=True):
+            lg.setLevel(level)
+
+
+class _SealedModel(formulas.ExcelModel):
+    """An ExcelModel that never opens any file but the one workbook it was given."""
+
+    def add_book(self, book: Any = None, context: Any = None, data_only: bool = False) -> Any:
+        if isinstance(book, str) and book.upper() != INTERNAL_BOOK:
+            raise WorkbookError(f"external workbook {book!r} is not opened")
+        return super().add_book(book, context, data_only)
+
+
+@dataclass
+class Evaluation:
+    """Results of one evaluation: formula cells and the inputs that were set."""
+
+    model: WorkbookModel
+    values: dict[CellRef, CellValue]
+    inputs: dict[CellRef, CellValue]
+    diagnostics: list[Diagnostic]
+    seconds: float
+    compiled: bool = False  # True when a compiled pipe was reused
+    notes: list[str] = field(default_factory=list)
+
+    def value(self, ref: CellRef | str) -> CellValue:
+        """The value of a cell after evaluation (formula result, input or constant)."""
+        cell = self.model.resolve(ref)
+        if cell in self.values:
+            return self.values[cell]
+        return self.model.constant(cell)
+
+    def named(self) -> list[NamedValue]:
+        """Defined names that refer to single cells, with their values (workbook order)."""
+        return [
+            NamedValue(n, ref, self.value(ref), self.model.is_formula(ref))
+            for n, ref in self.model.named_cells.items()
+        ]
+
+    def errors(self) -> list[Diagnostic]:
+        return [d for d in self.diagnostics if d.kind != "note"]
+
+
+def _names_in(formula: str) -> list[str]:
+    return [m.upper() for m in _FUNCTION_CALL.findall(_STRING.sub('""', formula))]
+
+
+def _known_function(name: str) -> bool:
+    table = get_functions()
+    return name in table or name in ("LAMBDA", "LET") or name.startswith("_XLETA.")
+
+
+def _tarjan(nodes: set[Any], succ: Mapping[Any, Any]) -> list[list[Any]]:
+    """Strongly connected components (iterative Tarjan) of the graph restricted to nodes."""
+    index: dict[Any, int] = {}
+    low: dict[Any, int] = {}
+    on_stack: set[Any] = set()
+    stack: list[Any] = []
+    out: list[list[Any]] = []
+    counter = 0
+    for root in nodes:
+        if root in index:
+            continue
+        work = [(root, iter([n for n in succ.get(root, ()) if n in nodes]))]
+        index[root] = low[root] = counter
+        counter += 1
+        stack.append(root)
+        on_stack.add(root)
+        while work:
+            v, it = work[-1]
+            advanced = False
+            for w in it:
+                if w not in index:
+                    index[w] = low[w] = counter
+                    counter += 1
+                    stack.append(w)
+                    on_stack.add(w)
+                    work.append((w, iter([n for n in succ.get(w, ()) if n in nodes])))
+                    advanced = True
+                    break
+                if w in on_stack:
+                    low[v] = min(low[v], index[w])
+            if advanced:
+                continue
+            work.pop()
+            if work:
+                low[work[-1][0]] = min(low[work[-1][0]], low[v])
+            if low[v] == index[v]:
+                comp = []
+                while True:
+                    w = stack.pop()
+                    on_stack.discard(w)
+                    comp.append(w)
+                    if w == v:
+                        break
+                if len(comp) > 1 or v in succ.get(v, ()):
+                    out.append(comp)
+    return out
+
+
+class WorkbookModel:
+    """One workbook compiled by the engine; see :func:`load_model`."""
+
+    def __init__(
+        self,
+        data: bytes,
+        name: str,
+        limits: Limits = DEFAULT_LIMITS,
+        *,
+        report: PackageReport | None = None,
+        structural: tuple[tuple[CellRef, Override], ...] = (),
+    ):
+        t0 = time.perf_counter()
+        self.name = name
+        self.data = data
+        self.limits = limits
+        self.sha256 = hashlib.sha256(data).hexdigest()
+        self.report = report if report is not None else inspect_package(data, name, limits)
+        self.package: Package = self.report.package
+        self.structural = structural
+        self.generation = ensure_registered()
+        self._titles = {s.name.upper(): s.name for s in self.package.sheets}
+        for s in self.package.worksheets():
+            if "'" in s.name:
+                raise WorkbookError(
+                    f"{name}: sheet name {s.name!r} contains an apostrophe, which the "
+                    "headless engine cannot read; rename the sheet"
+                )
+        self._formula_nodes: dict[str, tuple[str, int, int, int, int]] = {}
+        self._formula_at: dict[tuple[str, int, int], str] = {}
+        self._formula_text: dict[CellRef, str] = {}
+        self._constants: dict[tuple[str, int, int], CellValue] = {}
+        self._solved: list[str] | None = None
+        self._default: dict[CellRef, CellValue] | None = None
+        self._pipes: dict[tuple[str, ...], Any] = {}
+        self._uncompilable: set[tuple[str, ...]] = set()
+        self._seen: set[tuple[str, ...]] = set()
+        self._derived: OrderedDict[tuple[tuple[CellRef, Override], ...], WorkbookModel] = (
+            OrderedDict()
+        )
+        self.static_diagnostics: list[Diagnostic] = [
+            Diagnostic("note", None, n) for n in self.report.notes
+        ]
+        self._cycle_diagnostics: list[Diagnostic] = []
+        self._xl = self._compile()
+        self.named_cells = self._read_names()
+        self.build_seconds = time.perf_counter() - t0
+
+    # ------------------------------------------------------------ compiling
+    def _compile(self) -> Any:
+        with _quiet():
+            try:
+                book = load_workbook(io.BytesIO(self.data), keep_links=False)
+            except EngineError:
+                raise
+            except Exception as exc:
+                raise WorkbookError(
+                    f"{self.name}: cannot be read as a workbook ({type(exc).__name__}: {exc})"
+                ) from None
+            for ref, value in self.structural:
+                cell = book[ref.sheet].cell(ref.row, ref.col)
+                cell.value = value
+                if isinstance(value, str):
+                    cell.data_type = "s"  # text, even if it starts with "="
+            self._scan_book(book)
+            xl = _SealedModel()
+            xl.basedir = _MISSING_BASEDIR
+            xl.books[INTERNAL_BOOK] = {BOOK: book}
+            try:
+                wb, ctx = xl.add_book(INTERNAL_BOOK)
+                xl.pushes(*wb.worksheets, context=ctx)
+                xl.finish()
+            except RecursionError:
+                raise WorkbookError(f"{self.name}: formulas nested too deeply to compile") from None
+            except EngineError:
+                raise
+            except Exception as exc:
+                raise WorkbookError(
+                    f"{self.name}: the engine cannot compile this workbook "
+                    f"({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''})"
+                ) from None
+        if LEAN:
+            leanify_cells(xl.cells.values())
+        for node, cell in xl.cells.items():
+            if isinstance(cell, Ref) or cell.func is None:
+                continue
+            rng = cell.range.ranges[0]
+            sheet = str(rng["sheet"]).upper()
+            if sheet not in self._titles:
+                continue
+            r1, c1, r2, c2 = int(rng["r1"]), int(rng["n1"]), int(rng["r2"]), int(rng["n2"])
+            self._formula_nodes[node] = (sheet, r1, c1, r2, c2)
+            for r in range(r1, r2 + 1):
+                for c in range(c1, c2 + 1):
+                    self._formula_at[(sheet, r, c)] = node
+        return xl
+
+    def _scan_book(self, book: Any) -> None:
+        """Constants, formula texts and unsupported functions, from the loaded book."""
+        for ws in book.worksheets:
+            sheet = ws.title.upper()
+            for (r, c), cell in ws._cells.items():
+                value = cell.value
+                if value is None:
+                    continue
+                if cell.data_type == "f":
+                    text = value if isinstance(value, str) else getattr(value, "text", "")
+                    if not isinstance(text, str):
+                        continue
+                    ref = CellRef(ws.title, r, c)
+                    self._formula_text[ref] = text
+                    bad = sorted({n for n in _names_in(text) if not _known_function(n)})
+                    if bad:
+                        self.static_diagnostics.append(
+                            Diagnostic(
+                                "unsupported",
+                                ref,
+                                f"unsupported function {', '.join(bad)} (the cell shows #NAME?)",
+                            )
+                        )
+                elif cell.data_type == "e":
+                    self._constants[(sheet, r, c)] = SheetError(str(value))
+                elif isinstance(value, (bool, int, float, str)):
+                    self._constants[(sheet, r, c)] = value
+                else:  # dates and times: the engine reads them as serial numbers
+                    self._constants[(sheet, r, c)] = str(value)
+
+    def _read_names(self) -> dict[str, CellRef]:
+        out: dict[str, CellRef] = {}
+        for dn in self.package.defined_names:
+            if dn.hidden or dn.local_sheet is not None or dn.name.startswith("_xlnm."):
+                continue
+            ref = dn.single_cell()
+            if ref is None or ref.sheet.upper() not in self._titles:
+                continue
+            out[dn.name] = CellRef(self._titles[ref.sheet.upper()], ref.row, ref.col)
+        return out
+
+    # ------------------------------------------------------------ queries
+    @property
+    def sheet_names(self) -> list[str]:
+        return [s.name for s in self.package.sheets]
+
+    @property
+    def formula_count(self) -> int:
+        return len(self._formula_nodes)
+
+    def formula_refs(self) -> set[CellRef]:
+        """Every cell that holds a formula result (array-formula ranges included)."""
+        return {CellRef(self._titles[s], r, c) for (s, r, c) in self._formula_at}
+
+    def portable_refs(self) -> set[CellRef]:
+        """Formula cells every spreadsheet program can recompute: no CW_ (or unknown) call."""
+        ours = set(registered_names())
+        out: set[CellRef] = set()
+        for sheet, r1, c1, r2, c2 in self._formula_nodes.values():
+            title = self._titles[sheet]
+            text = self._formula_text.get(CellRef(title, r1, c1), "")
+            names = _names_in(text)
+            if any(n in ours or n.startswith("_XLUDF.") or not _known_function(n) for n in names):
+                continue
+            out.update(CellRef(title, r, c) for r in range(r1, r2 + 1) for c in range(c1, c2 + 1))
+        return out
+
+    def is_formula(self, ref: CellRef) -> bool:
+        return (ref.sheet.upper(), ref.row, ref.col) in self._formula_at
+
+    def constant(self, ref: CellRef) -> CellValue:
+        """The value stored in a non-formula cell (None when empty)."""
+        return self._constants.get((ref.sheet.upper(), ref.row, ref.col))
+
+    def formula_text(self, ref: CellRef) -> str | None:
+        return self._formula_text.get(ref)
+
+    def resolve(self, ref: CellRef | str) -> CellRef:
+        """A CellRef with the sheet's real name; accepts ``Sheet!B4``, ``B4`` or a defined name."""
+        if isinstance(ref, str):
+            text = ref.strip()
+            by_name = {k.casefold(): v for k, v in self.named_cells.items()}
+            if "!" not in text and text.casefold() in by_name:
+                return by_name[text.casefold()]
+            try:
+                ref = parse_cell(text)
+            except EngineError:
+                names = ", ".join(list(self.named_cells)[:12]) or "none"
+                raise WorkbookError(
+                    f"{text!r} is neither a cell (Sheet!B4) nor a defined name of one cell "
+                    f"(named cells: {names})"
+                ) from None
+        sheets = self.package.worksheets()
+        if not ref.sheet:
+            if len(sheets) != 1:
+                raise WorkbookError(
+                    f"{ref.coordinate}: say which sheet, e.g. {sheets[0].name}!{ref.coordinate}"
+                )
+            return CellRef(sheets[0].name, ref.row, ref.col)
+        entry = self.package.sheet(ref.sheet)
+        if entry is None or entry.kind != "worksheet":
+            raise WorkbookError(
+                f"unknown sheet {ref.sheet!r} in {ref.address}; the sheets are: "
+                + ", ".join(repr(s.name) for s in sheets)
+            )
+        return CellRef(entry.name, ref.row, ref.col)
+
+    # ------------------------------------------------------------ evaluating
+    def _node(self, sheet_upper: str, row: int, col: int) -> str:
+        return f"'[{INTERNAL_BOOK}]{sheet_upper}'!{col_letters(col)}{row}"
+
+    def _collect(self, names: list[str], values: list[Any]) -> dict[CellRef, CellValue]:
+        out: dict[CellRef, CellValue] = {}
+        for node, value in zip(names, values, strict=True):
+            sheet, r1, c1, r2, c2 = self._formula_nodes[node]
+            title = self._titles[sheet]
+            arr = value.value if isinstance(value, Ranges) else np.asarray(value, dtype=object)
+            if arr.ndim < 2:
+                arr = arr.reshape(1, -1) if arr.ndim == 1 else arr.reshape(1, 1)
+            for r in range(r1, r2 + 1):
+                for c in range(c1, c2 + 1):
+                    i, j = r - r1, c - c1
+                    v = arr[i, j] if i < arr.shape[0] and j < arr.shape[1] else None
+                    out[CellRef(title, r, c)] = SheetError("#N/A") if v is None else from_engine(v)
+        return out
+
+    def _full(self, inputs: dict[str, Any]) -> dict[CellRef, CellValue]:
+        with _quiet():
+            sol = self._xl.calculate(inputs=inputs) if inputs else self._xl.calculate()
+        names = [n for n in self._formula_nodes if n in sol]
+        if self._solved is None:
+            self._solved = names
+            self._find_cycles(set(sol))
+        return self._collect(names, [sol[n] for n in names])
+
+    def _find_cycles(self, solved: set[Any]) -> None:
+        missing = [n for n in self._formula_nodes if n not in solved]
+        if not missing:
+            return
+        dsp = self._xl.dsp
+        pending = {n for n in dsp.data_nodes if n not in solved}
+        pending |= {
+            f
+            for f, node in dsp.function_nodes.items()
+            if any(o in pending for o in node.get("outputs", ()))
+        }
+        cyclic: set[str] = set()
+        for comp in _tarjan(pending, dsp.dmap.succ):
+            cells = sorted(
+                (self._ref_of(n) for n in comp if n in self._formula_nodes),
+                key=lambda r: (r.sheet, r.row, r.col),
+            )
+            if not cells:
+                continue
+            cyclic.update(n for n in comp if n in self._formula_nodes)
+            shown = " -> ".join(c.address for c in cells[:8])
+            more = f" (and {len(cells) - 8} more)" if len(cells) > 8 else ""
+            message = f"circular reference: {shown}{more}; not evaluated"
+            self._cycle_diagnostics.append(Diagnostic("circular", cells[0], message))
+        for n in missing:
+            if n not in cyclic:
+                reason = "depends on a circular reference" if cyclic else "could not be evaluated"
+                self._cycle_diagnostics.append(
+                    Diagnostic("circular", self._ref_of(n), f"not evaluated: {reason}")
+                )
+
+    def _ref_of(self, node: str) -> CellRef:
+        sheet, r1, c1, _, _ = self._formula_nodes[node]
+        return CellRef(self._titles[sheet], r1, c1)
+
+    def _compile_pipe(self, keys: tuple[str, ...], args: list[Any]) -> Any:
+        """The model reduced to what ``keys`` reach (cached); a lean replay of it
+        when that gives exactly the engine's own results for ``args``."""
+        if keys in self._pipes:
+            return self._pipes[keys]
+        if keys in self._uncompilable or self._solved is None:
+            return None
+        try:
+            with _quiet():
+                pipe = self._xl.compile(inputs=list(keys), outputs=list(self._solved))
+        except Exception:  # the engine cannot reduce this model: evaluate it whole
+            self._uncompilable.add(keys)
+            return None
+        if LEAN:
+            try:
+                lean = LeanPipe(pipe, mode="model")
+                with _quiet():
+                    same = self._pipe_values(pipe(*args)) == self._pipe_values(lean(*args))
+                if same:
+                    pipe = lean
+            except UnsupportedPipeError:
+                pass
+        self._pipes[keys] = pipe
+        return pipe
+
+    def _pipe_values(self, res: Any) -> dict[CellRef, CellValue]:
+        assert self._solved is not None
+        res = [res] if len(self._solved) == 1 else list(res)
+        return self._collect(self._solved, res)
+
+    def _split(
+        self, overrides: Mapping[CellRef | str, Override]
+    ) -> tuple[dict[str, tuple[CellRef, Override]], dict[CellRef, Override]]:
+        fast: dict[str, tuple[CellRef, Override]] = {}
+        structural: dict[CellRef, Override] = {}
+        pred = self._xl.dsp.dmap.pred
+        for key, value in overrides.items():
+            ref = self.resolve(key)
+            if isinstance(value, float) and not np.isfinite(value):
+                raise WorkbookError(f"{ref.address}: a cell cannot hold {value}")
+            if not isinstance(value, (bool, int, float, str)):
+                raise WorkbookError(
+                    f"{ref.address}: value must be a number, TRUE/FALSE or text "
+                    f"(got {type(value).__name__})"
+                )
+            loc = (ref.sheet.upper(), ref.row, ref.col)
+            if loc in self._formula_at:
+                _, r1, c1, r2, c2 = self._formula_nodes[self._formula_at[loc]]
+                where = (
+                    f"is part of the array formula {col_letters(c1)}{r1}:{col_letters(c2)}{r2}"
+                    if (r1, c1) != (r2, c2)
+                    else "holds a formula"
+                )
+                raise WorkbookError(
+                    f"{ref.address} {where}; --set changes input cells (values), not formulas"
+                )
+            node = self._node(loc[0], ref.row, ref.col)
+            if node in self._xl.dsp.data_nodes and self._is_input_node(node, pred):
+                fast[node] = (ref, value)
+            else:
+                structural[ref] = value
+        return fast, structural
+
+    def _is_input_node(self, node: str, pred: Mapping[Any, Any]) -> bool:
+        """No formula computes ``node``: its only links in are the engine's inverse
+        links (a defined name or a range set as a whole writes back into its cells)."""
+        nodes = self._xl.dsp.nodes
+        for f in pred.get(node, ()):
+            info = nodes[f]
+            func = info.get("function")
+            if isinstance(func, InvRangesAssembler):
+                continue
+            if func is sh.bypass and all(
+                node in nodes[i].get("inv-data", ()) for i in info.get("inputs", ())
+            ):
+                continue
+            return False
+        return True
+
+    def _derived_model(self, structural: dict[CellRef, Override]) -> WorkbookModel:
+        key = tuple(sorted(structural.items(), key=lambda kv: (kv[0], repr(kv[1]))))
+        model = self._derived.get(key)
+        if model is None:
+            model = WorkbookModel(
+                self.data, self.name, self.limits, report=self.report, structural=key
+            )
+            self._derived[key] = model
+            while len(self._derived) > MAX_DERIVED_MODELS:
+                self._derived.popitem(last=False)
+        else:
+            self._derived.move_to_end(key)
+        return model
+
+    def evaluate(
+        self, overrides: Mapping[CellRef | str, Override] | None = None, *, compile: bool = False
+    ) -> Evaluation:
+        """Evaluate with ``overrides`` (cell or defined name -> value).
+
+        Overrides of value cells are engine inputs (fast, reusable); setting an
+        empty cell the model does not hold recompiles a variant of the workbook
+        once (cached). Formula cells cannot be set. ``compile=True`` reduces the
+        model to what the inputs reach right away (for sweeps); otherwise that
+        happens on the second evaluation with the same input cells.
+        """
+        t0 = time.perf_counter()
+        fast, structural = self._split(overrides or {})
+        if structural:
+            derived = self._derived_model(structural)
+            ev = derived.evaluate({ref: v for ref, v in fast.values()}, compile=compile)
+            for ref, v in structural.items():
+                ev.values[ref] = v
+                ev.inputs[ref] = v
+            ev.model = self
+            ev.seconds = time.perf_counter() - t0
+            return ev
+        compiled = False
+        if not fast:
+            if self._default is None:
+                self._default = self._full({})
+            values = dict(self._default)
+        else:
+            keys = tuple(sorted(fast))
+            args = [fast[k][1] for k in keys]
+            pipe = self._compile_pipe(keys, args) if (compile or keys in self._seen) else None
+            if pipe is None and compile and self._solved is None:
+                self._full(dict(zip(keys, args, strict=True)))  # learn what the model reaches
+                pipe = self._compile_pipe(keys, args)
+            if pipe is not None and self._solved is not None:
+                with _quiet():
+                    values = self._pipe_values(pipe(*args))
+                compiled = True
+            else:
+                values = self._full(dict(zip(keys, args, strict=True)))
+            self._seen.add(keys)
+        inputs: dict[CellRef, CellValue] = {ref: v for ref, v in fast.values()}
+        values.update(inputs)
+        diags = list(self.static_diagnostics) + list(self._cycle_diagnostics)
+        diags += self._error_diagnostics(values)
+        return Evaluation(self, values, inputs, diags, time.perf_counter() - t0, compiled)
+
+    def _error_diagnostics(self, values: Mapping[CellRef, CellValue]) -> list[Diagnostic]:
+        out: list[Diagnostic] = []
+        unsupported = {d.ref for d in self.static_diagnostics if d.kind == "unsupported"}
+        count = 0
+        for ref, v in values.items():
+            if not isinstance(v, SheetError) or ref in unsupported:
+                continue
+            count += 1
+            if count > MAX_REPORTED_ERRORS:
+                continue
+            out.append(Diagnostic("error", ref, self._explain(ref, v)))
+        if count > MAX_REPORTED_ERRORS:
+            out.append(
+                Diagnostic("error", None, f"... and {count - MAX_REPORTED_ERRORS} more error cells")
+            )
+        return out
+
+    def _explain(self, ref: CellRef, err: SheetError) -> str:
+        text = self._formula_text.get(ref)
+        if text:
+            for fn in _names_in(text):
+                hits = [m for m in messages_for(fn) if m.startswith(err.code)]
+                if hits:
+                    return f"{fn}: {hits[-1]}"
+        return f"{err.code} (formula ={text.lstrip('=')})" if text else err.code
+
+
+_CACHE: OrderedDict[str, WorkbookModel] = OrderedDict()
+
+
+def load_model(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> WorkbookModel:
+    """The compiled model of ``data``, from the in-memory cache when possible.
+
+    The cache key is the SHA-256 of the bytes plus the function-registry
+    generation; the most recent MAX_CACHED_MODELS models are kept.
+    """
+    gen = ensure_registered()
+    key = f"{hashlib.sha256(data).hexdigest()}:{gen}:{hash(limits)}"
+    model = _CACHE.get(key)
+    if model is not None:
+        _CACHE.move_to_end(key)
+        model.name = name
+        return model
+    model = WorkbookModel(data, name, limits)
+    _CACHE[key] = model
+    while len(_CACHE) > MAX_CACHED_MODELS:
+        _CACHE.popitem(last=False)
+    return model
+
+
+def clear_cache() -> None:
+    """Forget every compiled model (tests, benchmarks)."""
+    _CACHE.clear()
+
+
+def coordinate_ref(sheet: str, coordinate: str) -> CellRef:
+    """CellRef from a sheet name and an A1 coordinate."""
+    row, col = split_coordinate(coordinate)
+    return CellRef(sheet, row, col)

@@ -1,0 +1,233 @@
+"""The parts of an .xlsx package (a zip of XML parts), read safely.
+
+Only the structure is read here: which part is the workbook, which parts are
+its sheets, its defined names, and where relationships point. Every XML part
+goes through defusedxml (no DTD, no entities, no external resources).
+
+>>> import io, openpyxl
+>>> wb = openpyxl.Workbook(); wb.active.title = "Inputs"
+>>> buf = io.BytesIO(); wb.save(buf)
+>>> pkg = Package(buf.getvalue(), "demo.xlsx"); pkg.read_structure(100)
+>>> [(s.name, s.part) for s in pkg.sheets]
+[('Inputs', 'xl/worksheets/sheet1.xml')]
+"""
+
+from __future__ import annotations
+
+import io
+import posixpath
+import re
+import zipfile
+from collections.abc import Iterator
+from dataclasses import dataclass
+from typing import IO
+from xml.etree.ElementTree import Element, ParseError
+
+from defusedxml import DefusedXmlException
+from defusedxml.ElementTree import fromstring, iterparse
+
+from .errors import HostileFileError, WorkbookError
+from .refs import CellRef, col_index
+
+__all__ = [
+    "DefinedName",
+    "Package",
+    "SheetEntry",
+    "local",
+    "rels_path",
+    "resolve_target",
+]
+
+OLE_SIGNATURE = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"  # encrypted .xlsx and legacy .xls
+OFFICE_DOCUMENT = "/officeDocument"
+_SINGLE_CELL = re.compile(
+    r"^=?\s*(?:'(?P<q>(?:[^']|'')+)'|(?P<s>[^'!\s(),][^'!(),]*))!\$?(?P<c>[A-Za-z]{1,3})\$?"
+    r"(?P<r>[0-9]{1,7})\s*$"
+)
+
+
+def local(tag: str) -> str:
+    """The local name of a namespaced ElementTree tag."""
+    return tag.rpartition("}")[2]
+
+
+def rels_path(part: str) -> str:
+    """Path of the relationships part of ``part``."""
+    head, tail = posixpath.split(part)
+    return posixpath.join(head, "_rels", tail + ".rels")
+
+
+def resolve_target(source_part: str, target: str) -> str:
+    """Part name a relationship of ``source_part`` points at."""
+    if target.startswith("/"):
+        return posixpath.normpath(target.lstrip("/"))
+    return posixpath.normpath(posixpath.join(posixpath.dirname(source_part), target))
+
+
+@dataclass(frozen=True)
+class SheetEntry:
+    """A sheet of the workbook: its name, part, kind and visibility."""
+
+    name: str
+    part: str
+    kind: str  # "worksheet", "chartsheet", "dialogsheet", "macrosheet" or "unknown"
+    state: str = "visible"
+
+
+@dataclass(frozen=True)
+class DefinedName:
+    """A defined name as written in the workbook part."""
+
+    name: str
+    text: str
+    local_sheet: int | None = None
+    hidden: bool = False
+
+    def single_cell(self) -> CellRef | None:
+        """The cell this name refers to, when it refers to exactly one cell."""
+        m = _SINGLE_CELL.match(self.text.strip())
+        if not m:
+            return None
+        sheet = m.group("q").replace("''", "'") if m.group("q") else m.group("s").strip()
+        return CellRef(sheet, int(m.group("r")), col_index(m.group("c")))
+
+
+class Package:
+    """An opened .xlsx package; raises WorkbookError if it is not one."""
+
+    def __init__(self, data: bytes, name: str):
+        self.name = name
+        if data[:8] == OLE_SIGNATURE:
+            raise WorkbookError(
+                f"{name}: a password-protected workbook or an old .xls file; "
+                "save it as an unencrypted .xlsx first"
+            )
+        try:
+            self.zip = zipfile.ZipFile(io.BytesIO(data))
+        except (zipfile.BadZipFile, zipfile.LargeZipFile, ValueError, OSError):
+            raise WorkbookError(f"{name}: not an .xlsx workbook (not a zip archive)") from None
+        self.infos = self.zip.infolist()
+        self.names = {i.filename for i in self.infos}
+        self.workbook_part = ""  # found by read_structure()
+        self.sheets: list[SheetEntry] = []
+        self.defined_names: list[DefinedName] = []
+        self.has_calc_pr = False
+
+    # ----------------------------------------------------------------- reading
+    def open(self, part: str) -> IO[bytes]:
+        return self.zip.open(part)
+
+    def xml(self, part: str) -> Element:
+        """Parse a (small) XML part with defusedxml."""
+        try:
+            raw = self.zip.read(part)
+        except (zipfile.BadZipFile, OSError, EOFError, RuntimeError, NotImplementedError) as exc:
+            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+        try:
+            return fromstring(raw, forbid_dtd=True)
+        except DefusedXmlException as exc:
+            raise HostileFileError(
+                self.name, f"{part} declares a DTD or entities ({exc})"
+            ) from None
+        except ParseError as exc:
+            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+
+    def iter_xml(self, part: str, events: tuple[str, ...] = ("end",)) -> Iterator[Element]:
+        """Stream the elements of a part (defusedxml), yielding on ``events``."""
+        try:
+            with self.zip.open(part) as fh:
+                for _event, elem in iterparse(fh, events=events, forbid_dtd=True):
+                    yield elem
+        except DefusedXmlException as exc:
+            raise HostileFileError(
+                self.name, f"{part} declares a DTD or entities ({exc})"
+            ) from None
+        except ParseError as exc:
+            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+        except (zipfile.BadZipFile, OSError, EOFError, RuntimeError, NotImplementedError) as exc:
+            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+
+    def relationships(self, part: str) -> dict[str, tuple[str, str, str]]:
+        """Relationships of ``part``: id -> (type suffix, target part, target mode)."""
+        rels = rels_path(part)
+        if rels not in self.names:
+            return {}
+        out = {}
+        for el in self.xml(rels):
+            if local(el.tag) != "Relationship":
+                continue
+            mode = el.get("TargetMode", "Internal")
+            target = el.get("Target", "")
+            resolved = target if mode == "External" else resolve_target(part, target)
+            rtype = el.get("Type", "")
+            out[el.get("Id", "")] = (rtype[rtype.rfind("/") :], resolved, mode)
+        return out
+
+    def _find_workbook_part(self) -> str:
+        if "[Content_Types].xml" not in self.names:
+            raise WorkbookError(f"{self.name}: not an .xlsx workbook (no [Content_Types].xml)")
+        for _rtype, target, _mode in (
+            r for r in self.relationships("").values() if r[0] == OFFICE_DOCUMENT
+        ):
+            if target in self.names:
+                return target
+        if "xl/workbook.xml" in self.names:
+            return "xl/workbook.xml"
+        raise WorkbookError(f"{self.name}: not an .xlsx workbook (no workbook part)")
+
+    def read_structure(self, max_defined_names: int) -> None:
+        """Find the workbook part; read its sheets, defined names and calcPr (streamed)."""
+        self.workbook_part = self._find_workbook_part()
+        rels = self.relationships(self.workbook_part)
+        count = 0
+        for el in self.iter_xml(self.workbook_part):
+            tag = local(el.tag)
+            if tag == "sheet":
+                rid = next((v for k, v in el.attrib.items() if local(k) == "id"), "")
+                rtype, target, _ = rels.get(rid, ("", "", ""))
+                kind = rtype.strip("/") or "unknown"
+                if kind not in ("worksheet", "chartsheet", "dialogsheet", "macrosheet"):
+                    kind = "unknown"
+                self.sheets.append(
+                    SheetEntry(el.get("name", ""), target, kind, el.get("state", "visible"))
+                )
+            elif tag == "definedName":
+                count += 1
+                if count > max_defined_names:
+                    raise HostileFileError(
+                        self.name, f"more than {max_defined_names} defined names"
+                    )
+                lsid = el.get("localSheetId")
+                self.defined_names.append(
+                    DefinedName(
+                        el.get("name", ""),
+                        el.text or "",
+                        int(lsid) if lsid and lsid.isdigit() else None,
+                        el.get("hidden") in ("1", "true"),
+                    )
+                )
+            elif tag == "calcPr":
+                self.has_calc_pr = True
+        if not self.sheets:
+            raise WorkbookError(f"{self.name}: the workbook has no sheets")
+
+    def main_content_type(self) -> str:
+        """Content type of the workbook part (tells .xlsx from macro-enabled .xlsm)."""
+        want = "/" + self.workbook_part
+        for el in self.xml("[Content_Types].xml"):
+            if local(el.tag) == "Override" and el.get("PartName", "").lower() == want.lower():
+                return el.get("ContentType", "")
+        return ""
+
+    def is_macro_enabled(self) -> bool:
+        return "macroenabled" in self.main_content_type().lower()
+
+    def worksheets(self) -> list[SheetEntry]:
+        return [s for s in self.sheets if s.kind == "worksheet"]
+
+    def sheet(self, name: str) -> SheetEntry | None:
+        """The sheet called ``name`` (case-insensitive, as spreadsheets do)."""
+        for s in self.sheets:
+            if s.name.casefold() == name.casefold():
+                return s
+        return None

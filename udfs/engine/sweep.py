@@ -1,0 +1,401 @@
+"""What-if sweeps: the cartesian product of varied inputs, through a workbook or the core.
+
+``--vary TARGET=40:80:5`` gives 40, 45, ..., 80 (the stop is included when the
+steps land on it); ``--vary TARGET=1.05,1.1,1.2`` gives a list. The first
+varied input changes fastest, so each run of it is one line in the chart.
+
+* :func:`sweep_workbook` evaluates a compiled workbook per scenario (the model
+  is compiled once and reduced to what the inputs reach);
+* :func:`sweep_core` sizes every scenario in ONE vectorised call of
+  :func:`udfs.core.sizing.design_cell` (CellSpec field names, the demo spec
+  as the base);
+* :func:`write_table` writes CSV, or an .xlsx with the table, a chart per
+  output (up to four) and an About sheet with the caution.
+
+>>> parse_vary("Inputs!B4=40:60:10")
+Vary(target='Inputs!B4', values=(40.0, 50.0, 60.0))
+>>> parse_vary("np_ratio=1.05,1.1").values
+(1.05, 1.1)
+"""
+
+from __future__ import annotations
+
+import csv
+import dataclasses
+import difflib
+import io
+import itertools
+import math
+import os
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from udfs.sheet.errors import SheetError
+
+from .calc import CAUTION
+from .errors import ReferenceSyntaxError, WorkbookError
+from .files import atomic_writer, check_output
+from .model import WorkbookModel
+from .progress import Progress
+from .refs import CellRef, col_letters
+
+__all__ = [
+    "CORE_OUTPUTS",
+    "MAX_CORE_SCENARIOS",
+    "MAX_WORKBOOK_SCENARIOS",
+    "SweepTable",
+    "Vary",
+    "check_table_output",
+    "core_fields",
+    "grid_values",
+    "parse_vary",
+    "sweep_core",
+    "sweep_workbook",
+    "write_table",
+]
+
+MAX_WORKBOOK_SCENARIOS = 10_000
+MAX_CORE_SCENARIOS = 2_000_000
+MAX_XLSX_ROWS = 1_048_575  # Excel's rows, less the header
+MAX_CHARTS = 4
+MAX_CHART_SERIES = 12
+MAX_POINTS_PER_AXIS = 100_000
+
+#: The key results of a core sweep (CellDesign attribute names).
+CORE_OUTPUTS = (
+    "capacity_Ah",
+    "energy_Wh",
+    "cell_mass_g",
+    "specific_energy_Wh_kg",
+    "energy_density_Wh_L",
+    "cost_per_cell_USD",
+    "cost_per_kWh_USD",
+    "cathode_sheets",
+    "cathode_coating_thickness_um",
+    "stack_thickness_um",
+)
+_PAIRS = {
+    "target_capacity_Ah": "target_energy_Wh",
+    "target_energy_Wh": "target_capacity_Ah",
+    "cathode_loading_mg_cm2": "cathode_areal_capacity_mAh_cm2",
+    "cathode_areal_capacity_mAh_cm2": "cathode_loading_mg_cm2",
+}
+
+
+@dataclass(frozen=True)
+class Vary:
+    """One varied input: what to vary (cell, defined name or CellSpec field) and its values."""
+
+    target: str
+    values: tuple[float, ...]
+
+
+def _number(text: str, what: str) -> float:
+    try:
+        x = float(text)
+    except ValueError:
+        raise ReferenceSyntaxError(f"{what}: {text!r} is not a number") from None
+    if not math.isfinite(x):
+        raise ReferenceSyntaxError(f"{what}: {text!r} is not a finite number")
+    return x
+
+
+def grid_values(start: float, stop: float, step: float, what: str = "range") -> tuple[float, ...]:
+    """start, start+step, ... up to stop (included when a step lands on it, 1e-9 tolerance)."""
+    if step == 0:
+        raise ReferenceSyntaxError(f"{what}: the step must not be 0")
+    if (stop - start) * step < 0:
+        raise ReferenceSyntaxError(
+            f"{what}: a step of {step:g} never goes from {start:g} to {stop:g}"
+        )
+    n = math.floor((stop - start) / step + 1e-9) + 1
+    if n > MAX_POINTS_PER_AXIS:
+        raise ReferenceSyntaxError(
+            f"{what}: {n:,} values on one axis (limit {MAX_POINTS_PER_AXIS:,})"
+        )
+    return tuple(float(f"{start + i * step:.12g}") for i in range(n))
+
+
+def parse_vary(text: str) -> Vary:
+    """Read ``TARGET=start:stop:step``, ``TARGET=a,b,c`` or ``TARGET=value``."""
+    target, sep, spec = text.rpartition("=")
+    target = target.strip()
+    if not sep or not target or not spec.strip():
+        raise ReferenceSyntaxError(
+            f"--vary {text!r}: write TARGET=start:stop:step (e.g. Inputs!B4=40:80:5) "
+            "or TARGET=a,b,c"
+        )
+    what = f"--vary {target}"
+    spec = spec.strip()
+    if ":" in spec:
+        pieces = spec.split(":")
+        if len(pieces) != 3:
+            raise ReferenceSyntaxError(f"{what}: a range is start:stop:step (got {spec!r})")
+        start, stop, step = (_number(p, what) for p in pieces)
+        return Vary(target, grid_values(start, stop, step, what))
+    values = tuple(_number(p.strip(), what) for p in spec.split(",") if p.strip())
+    if not values:
+        raise ReferenceSyntaxError(f"{what}: no values")
+    return Vary(target, values)
+
+
+def _scenarios(varies: Sequence[Vary], limit: int) -> int:
+    if not varies:
+        raise ReferenceSyntaxError("give at least one --vary TARGET=start:stop:step")
+    targets = [v.target.casefold() for v in varies]
+    dup = next((t for t in targets if targets.count(t) > 1), None)
+    if dup is not None:
+        raise ReferenceSyntaxError(f"--vary {dup} is given twice")
+    n = math.prod(len(v.values) for v in varies)
+    if n > limit:
+        raise ReferenceSyntaxError(f"{n:,} scenarios (limit {limit:,}); use coarser steps")
+    return n
+
+
+def _fastest_first(varies: Sequence[Vary]) -> list[tuple[float, ...]]:
+    """The cartesian product with the first varied input changing fastest."""
+    return [combo[::-1] for combo in itertools.product(*(v.values for v in reversed(varies)))]
+
+
+@dataclass
+class SweepTable:
+    """Columns of a sweep: the varied inputs first, then the outputs."""
+
+    inputs: list[str]
+    outputs: list[str]
+    columns: dict[str, Any]  # name -> list or numpy array, all of one length
+    source: str
+    block: int = 1  # number of values of the first varied input (it changes fastest)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def rows(self) -> int:
+        first = next(iter(self.columns.values()))
+        return len(first)
+
+    @property
+    def names(self) -> list[str]:
+        return self.inputs + self.outputs
+
+
+def _cell_out(value: Any) -> Any:
+    if isinstance(value, SheetError):
+        return value.code
+    return value
+
+
+def sweep_workbook(
+    model: WorkbookModel,
+    varies: Sequence[Vary],
+    outputs: Sequence[str] = (),
+    progress: Progress | None = None,
+) -> SweepTable:
+    """Evaluate ``model`` for every scenario; outputs default to the named formula cells."""
+    n = _scenarios(varies, MAX_WORKBOOK_SCENARIOS)
+    targets = [model.resolve(v.target) for v in varies]
+    for v, ref in zip(varies, targets, strict=True):
+        if model.is_formula(ref):
+            raise WorkbookError(f"--vary {v.target}: {ref.address} holds a formula, not an input")
+    out_refs: list[tuple[str, CellRef]] = []
+    if outputs:
+        out_refs = [(o, model.resolve(o)) for o in outputs]
+    else:
+        out_refs = [(n_, r) for n_, r in model.named_cells.items() if model.is_formula(r)]
+        if not out_refs:
+            raise WorkbookError(
+                f"{model.name} has no defined names for single formula cells; "
+                "choose outputs with --output Sheet!C5"
+            )
+    columns: dict[str, list[Any]] = {v.target: [] for v in varies}
+    columns.update({name: [] for name, _ in out_refs})
+    bar = progress or Progress(n, "sweep")
+    try:
+        for combo in _fastest_first(varies):
+            ev = model.evaluate(dict(zip(targets, combo, strict=True)), compile=True)
+            for v, x in zip(varies, combo, strict=True):
+                columns[v.target].append(x)
+            for name, ref in out_refs:
+                columns[name].append(_cell_out(ev.value(ref)))
+            bar.advance()
+    finally:
+        bar.close()
+    return SweepTable(
+        [v.target for v in varies],
+        [name for name, _ in out_refs],
+        columns,
+        f"workbook {model.name} (sha256 {model.sha256[:12]})",
+        len(varies[0].values),
+    )
+
+
+def core_fields() -> list[str]:
+    """CellSpec fields a core sweep can vary (the numeric ones)."""
+    from udfs.core.sizing import CellSpec
+    from udfs.demo import demo_spec
+
+    base = demo_spec()
+    out = []
+    for f in dataclasses.fields(CellSpec):
+        value = getattr(base, f.name)
+        if f.name == "prices" or isinstance(value, (str, dict)) or not f.init:
+            continue
+        if value is None or isinstance(value, (int, float)):
+            out.append(f.name)
+    return out
+
+
+def sweep_core(varies: Sequence[Vary], progress: Progress | None = None) -> SweepTable:
+    """Size every scenario with one vectorised call of the core (demo spec as the base)."""
+    from udfs.core.sizing import design_cell
+    from udfs.demo import demo_spec
+
+    n = _scenarios(varies, MAX_CORE_SCENARIOS)
+    allowed = core_fields()
+    changes: dict[str, Any] = {}
+    for v in varies:
+        if v.target not in allowed:
+            near = difflib.get_close_matches(v.target, allowed, n=3)
+            hint = f"did you mean {', '.join(near)}? " if near else ""
+            raise WorkbookError(
+                f"--vary {v.target}: not a numeric CellSpec field; {hint}"
+                f"(fields: {', '.join(allowed)})"
+            )
+        partner = _PAIRS.get(v.target)
+        if partner and partner in [w.target for w in varies]:
+            raise WorkbookError(f"--vary {v.target} and {partner}: give only one of the two")
+    grids = np.meshgrid(*(np.asarray(v.values) for v in reversed(varies)), indexing="ij")
+    flat = [g.reshape(-1) for g in reversed(grids)]
+    for v, arr in zip(varies, flat, strict=True):
+        changes[v.target] = arr
+        if v.target in _PAIRS:
+            changes[_PAIRS[v.target]] = None
+    spec = dataclasses.replace(demo_spec(), **changes)
+    bar = progress or Progress(n, "sweep (core, one vectorised call)")
+    try:
+        design = design_cell(spec)
+        bar.advance(n)
+    finally:
+        bar.close()
+    columns: dict[str, Any] = {v.target: arr for v, arr in zip(varies, flat, strict=True)}
+    for name in CORE_OUTPUTS:
+        columns[name] = np.broadcast_to(np.asarray(getattr(design, name), dtype=float), (n,))
+    return SweepTable(
+        [v.target for v in varies],
+        list(CORE_OUTPUTS),
+        columns,
+        "core sizing model (udfs.core.sizing) with the demo spec as the base (demo data)",
+        len(varies[0].values),
+    )
+
+
+# ------------------------------------------------------------------ writing
+
+
+def _csv_text(table: SweepTable) -> str:
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    writer.writerow(table.names)
+    cols = []
+    for name in table.names:
+        col = table.columns[name]
+        if isinstance(col, np.ndarray) and col.dtype.kind == "f":
+            cols.append([format(x, ".10g") for x in col.tolist()])
+        else:
+            cols.append(["" if x is None else x for x in col])
+    writer.writerows(zip(*cols, strict=True))
+    return buf.getvalue()
+
+
+def _xlsx_bytes(table: SweepTable) -> bytes:
+    from openpyxl import Workbook
+    from openpyxl.chart import Reference, ScatterChart, Series
+
+    if table.rows > MAX_XLSX_ROWS:
+        raise WorkbookError(
+            f"{table.rows:,} rows do not fit in a sheet ({MAX_XLSX_ROWS:,}); write .csv instead"
+        )
+    wb = Workbook(write_only=True)
+    ws = wb.create_sheet("Sweep")
+    ws.append(table.names)
+    cols = [table.columns[n] for n in table.names]
+    lists = [c.tolist() if isinstance(c, np.ndarray) else c for c in cols]
+    for row in zip(*lists, strict=True):
+        ws.append(list(row))
+    n = table.rows
+    first = table.inputs[0]
+    block = max(table.block, 1)
+    blocks = n // block
+    x_col = 1
+    for k, out in enumerate(table.outputs[:MAX_CHARTS]):
+        y_col = len(table.inputs) + 1 + k
+        chart = ScatterChart()
+        chart.title = f"{out} vs {first}"
+        chart.x_axis.title = first
+        chart.y_axis.title = out
+        chart.height, chart.width = 9, 16
+        if 1 < blocks <= MAX_CHART_SERIES or blocks == 1:
+            chart.style = 13
+            for b in range(blocks):
+                lo, hi = 2 + b * block, 1 + (b + 1) * block
+                xs = Reference(ws, min_col=x_col, min_row=lo, max_row=hi)
+                ys = Reference(ws, min_col=y_col, min_row=lo, max_row=hi)
+                label = (
+                    ", ".join(
+                        f"{name}={table.columns[name][lo - 2]:g}" for name in table.inputs[1:]
+                    )
+                    or out
+                )
+                s = Series(ys, xs, title=label)
+                s.marker.symbol = "circle"
+                chart.series.append(s)
+        else:
+            xs = Reference(ws, min_col=x_col, min_row=2, max_row=n + 1)
+            ys = Reference(ws, min_col=y_col, min_row=2, max_row=n + 1)
+            s = Series(ys, xs, title=out)
+            s.marker.symbol = "circle"
+            s.graphicalProperties.line.noFill = True
+            chart.series.append(s)
+        anchor = f"{col_letters(len(table.names) + 2 + 9 * (k % 2))}{2 + 20 * (k // 2)}"
+        ws.add_chart(chart, anchor)
+    about = wb.create_sheet("About")
+    about.append(["cellwright sweep"])
+    about.append(["Source", table.source])
+    about.append(["Scenarios", n])
+    for name in table.inputs:
+        values = list(dict.fromkeys(np.asarray(table.columns[name]).tolist()))
+        about.append([f"Varied: {name}", ", ".join(f"{v:g}" for v in values[:50])])
+    about.append(["Outputs", ", ".join(table.outputs)])
+    for note in table.notes:
+        about.append(["Note", note])
+    about.append([CAUTION])
+    buf = io.BytesIO()
+    wb.save(buf)
+    return buf.getvalue()
+
+
+def check_table_output(
+    out: str | os.PathLike[str], force: bool = False, inputs: Sequence[str | os.PathLike[str]] = ()
+) -> Path:
+    """Refuse a sweep output early: wrong suffix, exists (without force), unwritable."""
+    path = Path(out)
+    if path.suffix.lower() not in (".csv", ".xlsx"):
+        raise WorkbookError(f"{path.name}: the sweep output must end in .csv or .xlsx")
+    return check_output(path, force, inputs)
+
+
+def write_table(
+    table: SweepTable,
+    out: str | os.PathLike[str],
+    force: bool = False,
+    inputs: Sequence[str | os.PathLike[str]] = (),
+) -> Path:
+    """Write the sweep as .csv or .xlsx (by the suffix of ``out``), atomically."""
+    path = check_table_output(out, force, inputs)
+    data = _csv_text(table).encode("utf-8") if path.suffix.lower() == ".csv" else _xlsx_bytes(table)
+    with atomic_writer(path, force, inputs) as fh:
+        fh.write(data)
+    return path

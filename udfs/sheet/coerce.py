@@ -1,0 +1,335 @@
+"""Cell values in, arrays out: the coercion rules of every spreadsheet argument.
+
+A cell value is a number, text, a boolean, an empty cell (``None`` or ``""``),
+an error value (a :class:`SheetError`, or text such as ``"#N/A"``), or a range
+(a 2-D list, a 1-D list taken as one row, or a numpy array). Rules:
+
+* numbers must be finite and inside the argument's domain, else ``#NUM!``;
+* numeric text (``"0.1"``) counts as its number, as in Excel's own arithmetic;
+* booleans are refused with ``#VALUE!`` (TRUE is rarely meant as a mass of 1);
+* empty cells take the argument's default, or give ``#VALUE!`` if it has none;
+* an error value arriving from another cell is passed on unchanged.
+
+Problems of one element mark that element only (``bad``/``errors``); problems
+of the whole argument (a ragged range) raise a :class:`CellwrightError`.
+
+>>> from udfs.core.validate import POSITIVE
+>>> c = number_arg([[1.0, -2.0]], Num("mass_g", "mass, g", POSITIVE))
+>>> c.value.tolist(), c.bad.tolist(), str(c.errors[0, 1])
+([[1.0, 1.0]], [[False, True]], '#NUM! mass_g must be > 0 (got -2)')
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from typing import Any, NamedTuple
+
+import numpy as np
+from numpy.typing import NDArray
+
+from ..core.errors import DomainError, InputError, ShapeError
+from ..core.validate import ANY
+from .args import Arg, Num
+from .errors import SheetError, incoming_error
+
+__all__ = ["Coerced", "activities_arg", "number_arg", "show", "text_arg"]
+
+_EMPTY = object()
+_TRUE = np.ones((), dtype=bool)
+_NUMERIC_KINDS = "fiu"
+
+
+class Coerced(NamedTuple):
+    """One argument after coercion: ``value`` is a float or str (single cell)
+    or an array (range); ``bad``/``errors`` mark the elements that are errors
+    (``None`` when there are none)."""
+
+    value: Any
+    bad: NDArray[np.bool_] | None = None
+    errors: NDArray[np.object_] | None = None
+
+    @property
+    def shape(self) -> tuple[int, ...]:
+        v = self.value
+        return v.shape if isinstance(v, np.ndarray) else ()
+
+
+def show(x: object) -> str:
+    """A cell value as a message shows it."""
+    if isinstance(x, (bool, np.bool_)):
+        return "TRUE" if x else "FALSE"
+    if isinstance(x, float):
+        return f"{x:.6g}"
+    if isinstance(x, str):
+        return repr(x) if len(x) <= 40 else repr(x[:37] + "...")
+    text = repr(x)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def _is_empty_token(x: str) -> bool:
+    """The headless engine's marker of an empty cell (a ``str`` subclass)."""
+    return (
+        type(x) is not str and type(x).__module__.startswith("schedula") and str.__eq__(x, "empty")
+    )
+
+
+def _error_for_scalar(err: SheetError, safe: Any) -> Coerced:
+    return Coerced(safe, _TRUE, np.array(err, dtype=object))
+
+
+def _empty_error(arg: Arg) -> SheetError:
+    what = "a number" if arg.is_number else "text"
+    return SheetError("#VALUE!", f"{arg.name} is empty; {what} is required ({arg.doc})")
+
+
+# --------------------------------------------------------------------------- shapes
+
+
+def _grid(value: Any, name: str) -> list[list[Any]]:
+    """A range as a rectangular list of rows (1-D input is one row)."""
+    if isinstance(value, np.ndarray):
+        if value.ndim == 0:
+            return [[value.item()]]
+        if value.ndim > 2:
+            raise ShapeError(name, detail=f"a range must be 2-D (got {value.ndim} dimensions)")
+        value = value.tolist()
+    seq = list(value)
+    if not seq:
+        raise ShapeError(name, detail="is an empty range")
+    nested = [isinstance(r, (list, tuple, np.ndarray)) for r in seq]
+    if not any(nested):
+        rows = [seq]
+    elif all(nested):
+        rows = [list(r) for r in seq]
+    else:
+        raise ShapeError(name, detail="a range must be rectangular (some rows are single values)")
+    width = len(rows[0])
+    for r in rows:
+        if len(r) != width:
+            raise ShapeError(
+                name, detail=f"a range must be rectangular (rows of {width} and {len(r)} cells)"
+            )
+        if any(isinstance(x, (list, tuple, np.ndarray)) for x in r):
+            raise ShapeError(name, detail="a range must be 2-D (a cell holds a list)")
+    if width == 0:
+        raise ShapeError(name, detail="is an empty range")
+    return rows
+
+
+# --------------------------------------------------------------------------- numbers
+
+
+def _number_element(x: Any, arg: Num) -> Any:
+    """A float inside the domain, a SheetError, or _EMPTY."""
+    t = type(x)
+    if t is float:
+        v = x
+    elif x is None:
+        return _EMPTY
+    elif t is bool or isinstance(x, np.bool_):
+        return SheetError("#VALUE!", f"{arg.name} must be a number, not {show(x)}")
+    elif isinstance(x, (int, float, np.integer, np.floating)):
+        try:
+            v = float(x)
+        except OverflowError:
+            return SheetError(
+                "#NUM!", f"{arg.name} must be {arg.domain.allowed} (got a number too large)"
+            )
+    elif isinstance(x, str):
+        if isinstance(x, SheetError):
+            return x
+        if _is_empty_token(x):
+            return _EMPTY
+        s = x.strip()
+        if not s:
+            return _EMPTY
+        err = incoming_error(s)
+        if err is not None:
+            return err
+        try:
+            v = float(s)  # numeric text counts as its number
+        except ValueError:
+            return SheetError("#VALUE!", f"{arg.name} must be a number (got text {show(x)})")
+    elif isinstance(x, (_dt.date, _dt.time, _dt.timedelta)):
+        return SheetError("#VALUE!", f"{arg.name} must be a number, not a date or time")
+    else:
+        return SheetError("#VALUE!", f"{arg.name} must be a number (got {type(x).__name__})")
+    if not arg.scalar_ok(v):
+        return SheetError("#NUM!", str(DomainError(arg.name, v, arg.domain.allowed)))
+    return v
+
+
+def _number_or_default(x: Any, arg: Num) -> Any:
+    v = _number_element(x, arg)
+    if v is _EMPTY:
+        return arg.default if arg.optional else _empty_error(arg)
+    return v
+
+
+def _has_bool(arr: NDArray[np.float64], value: Any) -> bool:
+    """Whether a float conversion swallowed booleans (only 0.0/1.0 can be one)."""
+    cand = np.flatnonzero((arr == 0.0) | (arr == 1.0))
+    if cand.size == 0:
+        return False
+    if arr.ndim == 1:
+        return any(isinstance(value[k], (bool, np.bool_)) for k in cand.tolist())
+    width = arr.shape[1]
+    for k in cand.tolist():
+        i, j = divmod(k, width)
+        if isinstance(value[i][j], (bool, np.bool_)):
+            return True
+    return False
+
+
+def _fast_float_range(value: Any) -> NDArray[np.float64] | None:
+    """A 2-D float array if ``value`` is a clean numeric range, else None."""
+    if isinstance(value, np.ndarray):
+        if value.dtype.kind not in _NUMERIC_KINDS or value.ndim > 2 or value.size == 0:
+            return None
+        arr = value.astype(float)
+    else:
+        try:
+            arr = np.array(value, dtype=float)
+        except (ValueError, TypeError, OverflowError):
+            return None
+        if arr.ndim not in (1, 2) or arr.size == 0 or _has_bool(arr, value):
+            return None
+    if arr.ndim == 1:
+        arr = arr.reshape(1, -1)
+    elif arr.ndim == 0:
+        arr = arr.reshape(1, 1)
+    return arr
+
+
+def _mark_domain(arr: NDArray[np.float64], arg: Num) -> Coerced:
+    ok = arg.domain.ok(arr)
+    if ok.all():
+        return Coerced(arr)
+    bad = ~ok
+    errors = np.empty(arr.shape, dtype=object)
+    for idx in zip(*np.nonzero(bad), strict=True):
+        errors[idx] = SheetError(
+            "#NUM!", str(DomainError(arg.name, float(arr[idx]), arg.domain.allowed))
+        )
+    arr[bad] = arg.safe
+    return Coerced(arr, bad, errors)
+
+
+def number_arg(value: Any, arg: Num) -> Coerced:
+    """Coerce a numeric argument (a single cell or a range)."""
+    if isinstance(value, (list, tuple, np.ndarray)):
+        arr = _fast_float_range(value)
+        if arr is not None:
+            return _mark_domain(arr, arg)
+        rows = _grid(value, arg.name)
+        vals = np.empty((len(rows), len(rows[0])))
+        errors = np.empty(vals.shape, dtype=object)
+        bad = np.zeros(vals.shape, dtype=bool)
+        for i, row in enumerate(rows):
+            for j, x in enumerate(row):
+                v = _number_or_default(x, arg)
+                if type(v) is float:
+                    vals[i, j] = v
+                else:
+                    vals[i, j] = arg.safe
+                    bad[i, j] = True
+                    errors[i, j] = v
+        return Coerced(vals, bad, errors) if bad.any() else Coerced(vals)
+    v = _number_or_default(value, arg)
+    if type(v) is float:
+        return Coerced(v)
+    return _error_for_scalar(v, arg.safe)
+
+
+# --------------------------------------------------------------------------- text
+
+
+def _text_element(x: Any, arg: Arg) -> Any:
+    """Stripped text, a SheetError, or _EMPTY."""
+    if isinstance(x, str):
+        if isinstance(x, SheetError):
+            return x
+        if _is_empty_token(x):
+            return _EMPTY
+        s = x.strip()
+        if not s:
+            return _EMPTY
+        err = incoming_error(s)
+        return s if err is None else err
+    if x is None:
+        return _EMPTY
+    if isinstance(x, (bool, np.bool_)):
+        return SheetError("#VALUE!", f"{arg.name} must be text, not {show(x)}")
+    return SheetError("#VALUE!", f"{arg.name} must be text ({arg.doc}); got {show(x)}")
+
+
+def _text_or_default(x: Any, arg: Arg) -> Any:
+    v = _text_element(x, arg)
+    if v is _EMPTY:
+        return arg.default if arg.optional else _empty_error(arg)
+    return v
+
+
+def text_arg(value: Any, arg: Arg) -> Coerced:
+    """Coerce a text argument (a single cell or a range of texts)."""
+    if isinstance(value, (list, tuple, np.ndarray)):
+        rows = _grid(value, arg.name)
+        vals = np.empty((len(rows), len(rows[0])), dtype=object)
+        errors = np.empty(vals.shape, dtype=object)
+        bad = np.zeros(vals.shape, dtype=bool)
+        for i, row in enumerate(rows):
+            for j, x in enumerate(row):
+                v = _text_or_default(x, arg)
+                if isinstance(v, SheetError):
+                    vals[i, j] = ""
+                    bad[i, j] = True
+                    errors[i, j] = v
+                else:
+                    vals[i, j] = v
+        if vals.size == 1:  # a single cell passed as a 1x1 range
+            return (
+                Coerced(vals.item(), bad.reshape(()), errors.reshape(()))
+                if bad.any()
+                else Coerced(vals.item())
+            )
+        return Coerced(vals, bad, errors) if bad.any() else Coerced(vals)
+    v = _text_or_default(value, arg)
+    if isinstance(v, SheetError):
+        return _error_for_scalar(v, "")
+    return Coerced(v)
+
+
+def _is_table(rows: list[list[Any]]) -> bool:
+    """A two-column range of species names (no '=') and values."""
+    if len(rows[0]) != 2:
+        return False
+    names = [r[0] for r in rows]
+    return any(isinstance(n, str) and n.strip() for n in names) and all(
+        n is None or (isinstance(n, str) and "=" not in n and incoming_error(n.strip()) is None)
+        for n in names
+    )
+
+
+def activities_arg(value: Any, arg: Arg) -> Coerced:
+    """Activities as text (``"Cu2+=0.1; pH=3"``; a range of such texts
+    broadcasts) or a two-column range of species and values, returned as the
+    equivalent text so that both forms take one path."""
+    if isinstance(value, (list, tuple, np.ndarray)):
+        rows = _grid(value, arg.name)
+        if _is_table(rows):
+            parts = []
+            for k, (name, x) in enumerate(rows, start=1):
+                label = name.strip() if isinstance(name, str) else ""
+                spec = Num(f"{arg.name} {label}".strip(), "", ANY)
+                v = _number_element(x, spec)
+                if not label:
+                    if v is _EMPTY:
+                        continue
+                    raise InputError(arg.name, detail=f"row {k} has a value but no species name")
+                if v is _EMPTY:
+                    raise InputError(arg.name, detail=f"row {k}: the value of {label!r} is empty")
+                if isinstance(v, SheetError):
+                    return _error_for_scalar(v, "")
+                parts.append(f"{label}={v!r}")
+            return Coerced("; ".join(parts))
+    return text_arg(value, arg)

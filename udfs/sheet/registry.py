@@ -1,0 +1,61 @@
+"""Every spreadsheet function, by its spreadsheet name.
+
+``FUNCTIONS`` maps ``"CW_NERNST"`` to the callable taking positional cell
+values (the headless engine registers these; Excel calls the same objects
+through xlwings). ``PLANS`` holds their declarations for the reference.
+
+>>> "CW_NERNST" in FUNCTIONS and FUNCTIONS["CW_NERNST"](0.34, 2, 0.1, 1) > 0.3
+True
+"""
+
+from __future__ import annotations
+
+from . import (  # noqa: F401 - imported for their declarations
+    electrodes,
+    faraday_law,
+    formula_units,
+    materials,
+    potentials,
+    procurement,
+    thermodynamics,
+)
+from .adapter import FUNCTIONS, PLANS
+
+__all__ = ["CATALOGUE_ORDER", "FUNCTIONS", "PLANS"]
+
+#: The design's catalogue order (the reference lists the functions in it).
+CATALOGUE_ORDER: tuple[str, ...] = (
+    "CW_CONVERT",
+    "CW_CONSTANT",
+    "CW_MOLAR_MASS",
+    "CW_MASS_FRACTION",
+    "CW_THEORETICAL_CAPACITY",
+    "CW_CHARGE_TO_MASS",
+    "CW_MASS_TO_CHARGE",
+    "CW_DEPOSITION_TIME",
+    "CW_ENERGY_PER_MASS",
+    "CW_PLATING_THICKNESS",
+    "CW_E0",
+    "CW_NERNST",
+    "CW_POTENTIAL",
+    "CW_HALF_REACTION",
+    "CW_COUPLES",
+    "CW_OCV",
+    "CW_MEMBRANE_POTENTIAL",
+    "CW_GIBBS",
+    "CW_REACTION_THERMO",
+    "CW_HEAT_RATE",
+    "CW_MATERIAL",
+    "CW_MATERIALS",
+    "CW_SOURCE",
+    "CW_CAPACITY",
+    "CW_ENERGY",
+    "CW_COUPLE_SPECIFIC_ENERGY",
+    "CW_SERIES_PARALLEL",
+    "CW_AREAL_CAPACITY",
+    "CW_COATING_THICKNESS",
+    "CW_ELECTRODE_AREA",
+    "CW_NP_RATIO",
+    "CW_LCE",
+    "CW_METAL_CONTENT",
+)

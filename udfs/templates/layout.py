@@ -1,0 +1,457 @@
+"""Palette, cell styles and a row-by-row writer shared by the template builders.
+
+The palette is cellwright's own (documented in ``docs/templates.md``): every
+value cell is one of five kinds, told apart by fill and ink, and the kind also
+decides whether the cell is locked under sheet protection.
+
+>>> from openpyxl import Workbook
+>>> wb = Workbook()
+>>> w = SheetWriter(wb, wb.active, Columns(label="B", value="C", unit="D", note="E"))
+>>> ref = w.input(Field("in_mass", "Mass", 2.0, "g", "mass of one part", Number(lo=0)))
+>>> ref, wb.active["C1"].protection.locked, wb.defined_names["in_mass"].attr_text
+('$C$1', False, "'Sheet'!$C$1")
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Literal
+
+from openpyxl.cell.cell import Cell
+from openpyxl.chart import BarChart, Reference
+from openpyxl.chart._chart import ChartBase
+from openpyxl.chart.label import DataLabelList
+from openpyxl.chart.text import RichText
+from openpyxl.drawing.text import CharacterProperties, Paragraph, ParagraphProperties
+from openpyxl.formatting.rule import ColorScaleRule
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Protection, Side
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.defined_name import DefinedName
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.datavalidation import DataValidation
+from openpyxl.worksheet.worksheet import Worksheet
+
+__all__ = [
+    "PALETTE",
+    "Choice",
+    "Columns",
+    "Field",
+    "Kind",
+    "Number",
+    "SheetWriter",
+    "add_colour_scale",
+    "add_name",
+    "axis_text",
+    "bar_chart",
+    "finish_sheet",
+    "heading",
+    "style",
+    "value_labels",
+]
+
+#: cellwright's palette (hex RGB). See docs/templates.md for what each colour means.
+PALETTE: dict[str, str] = {
+    "ink": "1F2A30",  # text of computed cells
+    "input_fill": "E4F1EA",  # inputs: pale sage ...
+    "input_ink": "0E5A45",  # ... with deep green text
+    "input_edge": "6FA58E",  # ... and a thin green frame
+    "lookup_fill": "ECE8F6",  # catalogue look-ups through CW_ functions: pale lavender
+    "lookup_ink": "3B2F6B",
+    "result_fill": "FCEFCF",  # key results: pale amber, bold
+    "result_ink": "573A00",
+    "band_fill": "2F4858",  # table header band: slate with white text
+    "band_ink": "FFFFFF",
+    "section_ink": "2F4858",  # section titles
+    "muted": "66777E",  # units and hints
+    "caution_fill": "FBE6E1",  # cautions: pale coral with brick text
+    "caution_ink": "8A2D1F",
+    "grid_low": "DDEFE6",  # what-if colour scale: low (good for cost) ...
+    "grid_mid": "FFF4D1",
+    "grid_high": "F4C7BC",  # ... high
+}
+
+Kind = Literal["input", "calc", "lookup", "result", "text", "unit", "hint", "band"]
+
+_THIN = Side(style="thin", color=PALETTE["input_edge"])
+_HAIR = Side(style="hair", color="B9C4C8")
+
+
+def _font(kind: Kind) -> Font:
+    return {
+        "input": Font(color=PALETTE["input_ink"], bold=True, size=11),
+        "calc": Font(color=PALETTE["ink"], size=11),
+        "lookup": Font(color=PALETTE["lookup_ink"], size=11),
+        "result": Font(color=PALETTE["result_ink"], bold=True, size=11),
+        "text": Font(color=PALETTE["ink"], size=11),
+        "unit": Font(color=PALETTE["muted"], size=10),
+        "hint": Font(color=PALETTE["muted"], italic=True, size=10),
+        "band": Font(color=PALETTE["band_ink"], bold=True, size=11),
+    }[kind]
+
+
+_FILLS: dict[str, str] = {
+    "input": "input_fill",
+    "lookup": "lookup_fill",
+    "result": "result_fill",
+    "band": "band_fill",
+}
+
+
+def style(cell: Cell, kind: Kind, number_format: str | None = None) -> Cell:
+    """Give ``cell`` the look of ``kind``; inputs are unlocked, all else locked."""
+    cell.font = _font(kind)
+    if kind in _FILLS:
+        colour = PALETTE[_FILLS[kind]]
+        cell.fill = PatternFill("solid", start_color=colour, end_color=colour)
+    if kind == "input":
+        cell.border = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
+    elif kind in ("calc", "lookup", "result"):
+        cell.border = Border(bottom=_HAIR)
+    cell.protection = Protection(locked=kind != "input")
+    wrap = kind == "band"
+    horizontal = "center" if kind == "band" else None
+    cell.alignment = Alignment(vertical="center", wrap_text=wrap, horizontal=horizontal)
+    if number_format:
+        cell.number_format = number_format
+    return cell
+
+
+def heading(cell: Cell, text: str, size: int = 12) -> Cell:
+    """A bold heading in the section colour (e.g. above a chart)."""
+    cell.value = text
+    cell.font = Font(bold=True, size=size, color=PALETTE["section_ink"])
+    return cell
+
+
+def add_name(wb: Workbook, name: str, ws: Worksheet, ref: str) -> None:
+    """A workbook-level defined name for ``ref`` (``'$C$5'`` or ``'$B$2:$D$9'``) on ``ws``."""
+    if name in wb.defined_names:
+        raise ValueError(f"defined name {name!r} used twice")
+    wb.defined_names[name] = DefinedName(name, attr_text=f"{quote(ws.title)}!{ref}")
+
+
+def quote(title: str) -> str:
+    """A sheet title as a formula writes it: ``'Bill of materials'``.
+
+    >>> quote("Inputs"), quote("What-if")
+    ("'Inputs'", "'What-if'")
+    """
+    return "'" + title.replace("'", "''") + "'"
+
+
+@dataclass(frozen=True)
+class Number:
+    """A numeric input check: bounds (open or closed), blank allowed or not."""
+
+    lo: float | None = None
+    hi: float | None = None
+    lo_open: bool = False
+    hi_open: bool = False
+    blank_ok: bool = False
+    whole: bool = False
+    percent: bool = False
+
+    def _show(self, x: float) -> str:
+        return f"{100 * x:g} %" if self.percent else f"{x:g}"
+
+    def allowed(self) -> str:
+        parts = []
+        if self.lo is not None:
+            parts.append(f"{'>' if self.lo_open else '>='} {self._show(self.lo)}")
+        if self.hi is not None:
+            parts.append(f"{'<' if self.hi_open else '<='} {self._show(self.hi)}")
+        what = "a whole number" if self.whole else "a number"
+        text = f"{what} {' and '.join(parts)}".strip()
+        return text + (" (or leave it blank)" if self.blank_ok else "")
+
+    def formula(self, ref: str) -> str:
+        terms = [f"ISNUMBER({ref})"]
+        if self.lo is not None:
+            terms.append(f"{ref}{'>' if self.lo_open else '>='}{self.lo:g}")
+        if self.hi is not None:
+            terms.append(f"{ref}{'<' if self.hi_open else '<='}{self.hi:g}")
+        if self.whole:
+            terms.append(f"{ref}=ROUND({ref},0)")
+        return f"AND({','.join(terms)})"
+
+
+@dataclass(frozen=True)
+class Choice:
+    """A drop-down: a defined name of a list range, or fixed options."""
+
+    source: str | tuple[str, ...]
+    blank_ok: bool = False
+
+    def allowed(self) -> str:
+        if isinstance(self.source, tuple):
+            return "one of " + ", ".join(self.source)
+        return "a name from the drop-down list"
+
+    def formula(self) -> str:
+        if isinstance(self.source, tuple):
+            return '"' + ",".join(self.source) + '"'
+        return self.source
+
+
+@dataclass(frozen=True)
+class Field:
+    """One input row: defined name, label, default, unit, one-line hint, check."""
+
+    name: str
+    label: str
+    default: float | str | None
+    unit: str
+    hint: str
+    check: Number | Choice | None = None
+    number_format: str | None = None
+
+
+@dataclass(frozen=True)
+class Columns:
+    """Which column holds labels, values, units and notes on a list-style sheet."""
+
+    label: str = "B"
+    value: str = "C"
+    unit: str = "D"
+    note: str = "E"
+
+
+def validation(ws: Worksheet, ref: str, check: Number | Choice, title: str, hint: str) -> None:
+    """Attach a data validation with an input message and an error message."""
+    plain = ref.replace("$", "")
+    if isinstance(check, Number):
+        dv = DataValidation(
+            type="custom", formula1=check.formula(plain), allow_blank=check.blank_ok
+        )
+    else:
+        dv = DataValidation(type="list", formula1=check.formula(), allow_blank=check.blank_ok)
+    dv.promptTitle = title[:32]
+    dv.prompt = hint[:255]
+    dv.errorTitle = "Not allowed here"
+    dv.error = f"{title}: {check.allowed()}."[:255]
+    dv.showInputMessage = True
+    dv.showErrorMessage = True
+    dv.errorStyle = "stop"
+    ws.add_data_validation(dv)
+    dv.add(plain)
+
+
+class SheetWriter:
+    """Writes labelled rows top to bottom: titles, sections, inputs, results."""
+
+    def __init__(
+        self, wb: Workbook, ws: Worksheet, cols: Columns, widths: dict[str, float] | None = None
+    ) -> None:
+        self.wb, self.ws, self.cols, self.row = wb, ws, cols, 1
+        self.widths = dict(widths or {})
+        for col, width in self.widths.items():
+            ws.column_dimensions[col].width = width
+
+    def span_chars(self, first: str, span: int) -> float:
+        """Characters that fit on one line across ``span`` columns from ``first``."""
+        start = self.ws[f"{first}1"].column
+        return sum(
+            self.widths.get(get_column_letter(start + k), 8.43) for k in range(span)
+        )
+
+    def ref(self, column: str, row: int | None = None) -> str:
+        return f"${column}${self.row if row is None else row}"
+
+    def skip(self, rows: int = 1) -> None:
+        self.row += rows
+
+    def title(self, text: str, subtitle: str | None = None) -> None:
+        c = self.ws[f"{self.cols.label}{self.row}"]
+        c.value = text
+        c.font = Font(bold=True, size=16, color=PALETTE["section_ink"])
+        self.row += 1
+        if subtitle:
+            self.text(subtitle, kind="hint")
+
+    def text(
+        self, text: str, kind: Kind = "text", span: int = 4, height: float | None = None
+    ) -> None:
+        """A paragraph across ``span`` columns starting at the label column."""
+        start = self.cols.label
+        end = get_column_letter(self.ws[f"{start}1"].column + span - 1)
+        c = self.ws[f"{start}{self.row}"]
+        c.value = text
+        style(c, kind)
+        c.alignment = Alignment(vertical="top", wrap_text=True)
+        if span > 1:
+            self.ws.merge_cells(f"{start}{self.row}:{end}{self.row}")
+        lines = -(-len(text) // max(int(self.span_chars(start, span) * 0.95), 1))
+        if height or lines > 1:
+            self.ws.row_dimensions[self.row].height = max(height or 0.0, 15.0 * lines)
+        self.row += 1
+
+    def caution(self, text: str, span: int = 4, height: float = 45.0) -> None:
+        start = self.cols.label
+        c = self.ws[f"{start}{self.row}"]
+        self.text(text, span=span, height=height)
+        c.font = Font(color=PALETTE["caution_ink"], bold=True, size=10)
+        colour = PALETTE["caution_fill"]
+        c.fill = PatternFill("solid", start_color=colour, end_color=colour)
+
+    def section(self, text: str) -> None:
+        self.row += 1
+        c = self.ws[f"{self.cols.label}{self.row}"]
+        c.value = text
+        c.font = Font(bold=True, size=12, color=PALETTE["section_ink"])
+        c.border = Border(bottom=Side(style="medium", color=PALETTE["section_ink"]))
+        self.row += 1
+
+    def band(self, labels: Sequence[str], first: str | None = None) -> None:
+        """A header band of table column titles starting at column ``first``."""
+        col = self.ws[f"{first or self.cols.label}1"].column
+        for k, label in enumerate(labels):
+            style(self.ws.cell(self.row, col + k, label), "band")
+        self.ws.row_dimensions[self.row].height = 30.0
+        self.row += 1
+
+    def input(self, f: Field) -> str:
+        """Write an input row; define its name; return the value's absolute ref."""
+        ws, cols = self.ws, self.cols
+        ws[f"{cols.label}{self.row}"] = f.label
+        style(ws[f"{cols.label}{self.row}"], "text")
+        cell = ws[f"{cols.value}{self.row}"]
+        cell.value = f.default
+        style(cell, "input", f.number_format)
+        ws[f"{cols.unit}{self.row}"] = f.unit
+        style(ws[f"{cols.unit}{self.row}"], "unit")
+        ws[f"{cols.note}{self.row}"] = f.hint
+        style(ws[f"{cols.note}{self.row}"], "hint")
+        ref = self.ref(cols.value)
+        if f.check is not None:
+            validation(ws, ref, f.check, f.label, f.hint)
+        add_name(self.wb, f.name, ws, ref)
+        self.row += 1
+        return ref
+
+    def value(
+        self,
+        label: str,
+        formula: str,
+        unit: str,
+        note: str = "",
+        kind: Kind = "calc",
+        number_format: str | None = None,
+        name: str | None = None,
+    ) -> str:
+        """Write a computed row (native formula, CW_ look-up or key result)."""
+        ws, cols = self.ws, self.cols
+        ws[f"{cols.label}{self.row}"] = label
+        style(ws[f"{cols.label}{self.row}"], "text")
+        style(ws[f"{cols.value}{self.row}"], kind, number_format).value = formula
+        ws[f"{cols.unit}{self.row}"] = unit
+        style(ws[f"{cols.unit}{self.row}"], "unit")
+        if note:
+            ws[f"{cols.note}{self.row}"] = note
+            style(ws[f"{cols.note}{self.row}"], "hint")
+        ref = self.ref(cols.value)
+        if name:
+            add_name(self.wb, name, ws, ref)
+        self.row += 1
+        return ref
+
+
+def add_colour_scale(ws: Worksheet, area: str, high_is_good: bool = False) -> None:
+    """Three-colour scale over ``area``: sage for the good end, cream in the
+    middle, coral for the bad end (low is good unless ``high_is_good``)."""
+    good, bad = PALETTE["grid_low"], PALETTE["grid_high"]
+    low, high = (bad, good) if high_is_good else (good, bad)
+    ws.conditional_formatting.add(
+        area,
+        ColorScaleRule(
+            start_type="min",
+            start_color=low,
+            mid_type="percentile",
+            mid_value=50,
+            mid_color=PALETTE["grid_mid"],
+            end_type="max",
+            end_color=high,
+        ),
+    )
+
+
+def bar_chart(
+    horizontal: bool,
+    data: Reference,
+    categories: Reference,
+    axis_title: str,
+    number_format: str,
+    colour: str,
+    size: tuple[float, float],
+) -> BarChart:
+    """A one-series bar chart in the palette; its title is left to a cell above it
+    (a sheet heading reads better on a projector than a chart title)."""
+    chart = BarChart()
+    chart.type = "bar" if horizontal else "col"
+    chart.style = 10
+    chart.legend = None
+    chart.add_data(data, titles_from_data=False)
+    chart.set_categories(categories)
+    chart.y_axis.title = axis_title
+    chart.y_axis.numFmt = number_format
+    chart.x_axis.delete = False
+    chart.y_axis.delete = False
+    if horizontal:
+        chart.x_axis.scaling.orientation = "maxMin"  # first row at the top
+    chart.series[0].graphicalProperties.solidFill = colour
+    chart.series[0].graphicalProperties.line.solidFill = colour
+    chart.gapWidth = 60
+    chart.height, chart.width = size
+    for axis in (chart.x_axis, chart.y_axis):
+        axis.txPr = axis_text(1000)
+    return chart
+
+
+def axis_text(size: int) -> RichText:
+    """Axis label text of ``size`` hundredths of a point (1000 = 10 pt)."""
+    props = CharacterProperties(sz=size)
+    return RichText(p=[Paragraph(pPr=ParagraphProperties(defRPr=props), endParaRPr=props)])
+
+
+def value_labels(chart: ChartBase, number_format: str) -> None:
+    """Data labels that show only the value (no series or category names)."""
+    labels = DataLabelList()
+    labels.showVal = True
+    labels.showSerName = False
+    labels.showCatName = False
+    labels.showLegendKey = False
+    labels.showPercent = False
+    labels.numFmt = number_format
+    chart.dataLabels = labels
+
+
+def finish_sheet(
+    ws: Worksheet,
+    landscape: bool = False,
+    first_cell: str | None = None,
+    protect: bool = True,
+    freeze: str | None = None,
+) -> None:
+    """Print set-up (A4, fit to one page wide and tall), no gridlines, sheet
+    protection without a password, frozen panes and the active cell."""
+    ws.sheet_view.showGridLines = False
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    ws.page_setup.orientation = "landscape" if landscape else "portrait"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 1
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_options.horizontalCentered = True
+    ws.page_margins.left = ws.page_margins.right = 0.5
+    ws.page_margins.top = ws.page_margins.bottom = 0.6
+    ws.oddFooter.center.text = "&A - page &P of &N"
+    ws.oddFooter.right.text = "cellwright: estimates only"
+    if protect:
+        ws.protection.sheet = True
+        ws.protection.formatColumns = False
+        ws.protection.formatRows = False
+    if freeze:
+        ws.freeze_panes = freeze
+    if first_cell:
+        for selection in ws.sheet_view.selection:  # one per pane when panes are frozen
+            selection.activeCell = first_cell
+            selection.sqref = first_cell

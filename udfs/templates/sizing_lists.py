@@ -1,0 +1,125 @@
+"""The hidden ``Lists`` sheet of the cell-sizing workbook: the catalogue's
+material names (static, written by the builder from :mod:`udfs.core.catalogue`)
+that feed the drop-downs, the demo price list (invented demo data), and the
+element mass fractions of materials that have no formula.
+
+Values of materials with a formula are not stored here: the workbook reads
+them live with ``CW_MATERIAL`` and ``CW_MASS_FRACTION``.
+
+>>> ELEMENTS
+('Li', 'Ni', 'Co', 'Mn', 'Fe', 'Al', 'Cu')
+"""
+
+from __future__ import annotations
+
+from openpyxl.utils import get_column_letter
+from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
+
+from ..core import catalogue, procurement
+from ..core.errors import NotFoundError
+from ..core.units import conversion, dimension_of
+from .layout import add_name, style
+
+__all__ = ["ELEMENTS", "LIST_ROLES", "demo_price", "write_lists"]
+
+#: Elements reported on the Procurement sheet, in this order.
+ELEMENTS: tuple[str, ...] = ("Li", "Ni", "Co", "Mn", "Fe", "Al", "Cu")
+
+#: Drop-down list name -> catalogue role or category.
+LIST_ROLES: tuple[tuple[str, str], ...] = (
+    ("list_cathode", "cathode"),
+    ("list_anode", "anode"),
+    ("list_binder", "binder"),
+    ("list_carbon", "conductive_carbon"),
+    ("list_foil", "foil"),
+    ("list_separator", "separator"),
+    ("list_electrolyte", "electrolyte"),
+    ("list_tab", "tab"),
+    ("list_housing", "housing"),
+)
+
+
+def demo_price(name: str) -> tuple[float, str] | None:
+    """The demo price (invented) of a material as (value, 'USD/kg' or 'USD/m^2').
+
+    >>> demo_price("PE separator")
+    (0.55, 'USD/m^2')
+    """
+    try:
+        fact = catalogue.price(name)
+    except NotFoundError:
+        return None
+    currency, _, per = fact.unit.replace(" ", "").partition("/")
+    if currency.upper() != "USD" or not per:
+        raise ValueError(f"demo price of {name!r}: unit {fact.unit!r} is not USD per something")
+    if dimension_of(per, "unit") == "[mass]":
+        return float(fact.value) / conversion(per, "kg", "unit")[0], "USD/kg"
+    return float(fact.value) / conversion(per, "m^2", "unit")[0], "USD/m^2"
+
+
+def _composition_note(name: str) -> tuple[dict[str, float], str]:
+    comp = procurement.composition(name)
+    if comp is None:
+        return {}, "make-up varies: adds nothing to the contained metals"
+    if len(comp) == 1 and abs(next(iter(comp.values())) - 1.0) < 1e-12:
+        return dict(comp), "taken as the pure metal (alloying and plating ignored)"
+    return dict(comp), "salt share of the solution, from its molarity and density"
+
+
+def write_lists(wb: Workbook) -> Worksheet:
+    """Write the hidden Lists sheet and its defined names; return the sheet."""
+    ws = wb.create_sheet("Lists")
+    ws["A1"] = "Lists for the drop-downs and look-ups (written by the template builder)"
+    for k, (list_name, role) in enumerate(LIST_ROLES):
+        col = get_column_letter(1 + k)
+        names = catalogue.material_names(role)
+        style(ws[f"{col}3"], "band").value = role.replace("_", " ")
+        for i, name in enumerate(names):
+            ws[f"{col}{4 + i}"] = name
+        add_name(wb, list_name, ws, f"${col}$4:${col}${3 + len(names)}")
+
+    # the material table: one row per catalogue material
+    first = len(LIST_ROLES) + 2
+    headers = [
+        "material", "kind", "has formula", "demo price", "demo price unit",
+        *(f"{el} mass fraction" for el in ELEMENTS), "note",
+    ]
+    for k, h in enumerate(headers):
+        style(ws.cell(3, first + k, h), "band")
+    materials = catalogue.material_names()
+    for i, name in enumerate(materials):
+        row = 4 + i
+        m = catalogue.material(name)
+        ws.cell(row, first, name)
+        ws.cell(row, first + 1, m.role)
+        has_formula = "formula" in m.facts
+        ws.cell(row, first + 2, "yes" if has_formula else "no")
+        price = demo_price(name)
+        ws.cell(row, first + 3, price[0] if price else "none")
+        ws.cell(row, first + 4, price[1] if price else "none")
+        if has_formula:
+            note = "formula in the catalogue: fractions come from CW_MASS_FRACTION"
+            fractions: dict[str, float] = {}
+        else:
+            fractions, note = _composition_note(name)
+        for j, el in enumerate(ELEMENTS):
+            ws.cell(row, first + 5 + j, None if has_formula else fractions.get(el, 0.0))
+        ws.cell(row, first + 5 + len(ELEMENTS), note)
+    last = 3 + len(materials)
+
+    def column(offset: int) -> str:
+        c = get_column_letter(first + offset)
+        return f"${c}$4:${c}${last}"
+
+    add_name(wb, "list_material", ws, column(0))
+    add_name(wb, "list_has_formula", ws, column(2))
+    add_name(wb, "list_demo_price", ws, column(3))
+    add_name(wb, "list_demo_unit", ws, column(4))
+    lo, hi = get_column_letter(first + 5), get_column_letter(first + 4 + len(ELEMENTS))
+    add_name(wb, "list_fractions", ws, f"${lo}$4:${hi}${last}")
+    for k in range(len(LIST_ROLES) + len(headers) + 1):
+        ws.column_dimensions[get_column_letter(1 + k)].width = 20
+    ws.sheet_state = "hidden"
+    ws.protection.sheet = True
+    return ws
