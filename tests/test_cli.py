@@ -321,3 +321,61 @@ def test_functions_reference(capsys):
 def test_unknown_command_is_a_usage_error(capsys):
     code, _, err = call(capsys, "frobnicate")
     assert code == 2 and err.count("\n") == 1 and "invalid choice" in err
+
+
+# ------------------------------------------------------------------ file safety matrix
+
+
+def _writers(book, out):
+    """Every command that writes a file, as argument lists (None: not available yet)."""
+    from udfs.engine.templates import available
+
+    names = sorted(available())
+    return {
+        "calc": ["calc", book, "-o", out.with_suffix(".xlsx")],
+        "sweep-csv": ["sweep", book, "--vary", "load=1,2", "--out", out.with_suffix(".csv")],
+        "sweep-core-xlsx": [
+            "sweep",
+            "--model",
+            "core",
+            "--vary",
+            "np_ratio=1.05,1.1",
+            "--out",
+            out.with_suffix(".xlsx"),
+        ],
+        "template": ["template", names[0], "-o", out.with_suffix(".xlsx")] if names else None,
+    }
+
+
+@pytest.mark.parametrize("command", ["calc", "sweep-csv", "sweep-core-xlsx", "template"])
+def test_every_writer_refuses_existing_and_missing_directories(capsys, book, tmp_path, command):
+    args = _writers(book, tmp_path / "out")[command]
+    if args is None:
+        pytest.skip("no templates yet")
+    target = args[-1]
+    target.write_bytes(b"old")
+    code, _, err = call(capsys, *args)
+    assert code == 1 and "already exists; add --force" in err and err.count("\n") == 1
+    assert target.read_bytes() == b"old"
+    missing = [*args[:-1], tmp_path / "no-such-dir" / target.name]
+    code, _, err = call(capsys, *missing)
+    assert code == 1 and "does not exist" in err
+
+
+@pytest.mark.parametrize("command", ["calc", "sweep-csv", "sweep-core-xlsx", "template"])
+def test_every_writer_survives_a_full_disk(capsys, book, tmp_path, monkeypatch, command):
+    args = _writers(book, tmp_path / "out")[command]
+    if args is None:
+        pytest.skip("no templates yet")
+    target = args[-1]
+    target.write_bytes(b"old")
+    from udfs.engine import files
+
+    def full(fd):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(files.os, "fsync", full)
+    code, _, err = call(capsys, *args, "--force")
+    assert code == 1 and "the disk is full; any existing file is unchanged" in err
+    assert target.read_bytes() == b"old"
+    assert not [p for p in tmp_path.iterdir() if p.name.endswith(".tmp")]

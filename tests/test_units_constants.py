@@ -89,3 +89,11 @@ def test_constant_lookup_is_case_insensitive() -> None:
     with pytest.raises(CellwrightError, match="did you mean"):
         constants.constant("FF")
     assert math.isclose(constants.constant("NERNST_SLOPE")[0], 0.0591596, rel_tol=1e-5)
+
+
+def test_text_where_a_number_belongs_names_the_argument() -> None:
+    from udfs.core import faraday
+    from udfs.core.errors import InputError
+
+    with pytest.raises(InputError, match="molar_mass must be a number > 0"):
+        faraday.energy_per_mass(2.0, "H2", 2)  # type: ignore[arg-type]

@@ -47,7 +47,7 @@ def _say(text: str = "", stream: TextIO | None = None) -> None:
 
 
 def _caution() -> None:
-    from udfs.engine.calc import CAUTION
+    from udfs.engine.caution import CAUTION
 
     _say(CAUTION)
 
@@ -230,7 +230,6 @@ def _demo_workbook(out: str, force: bool) -> int:
 
 
 def _cmd_sweep(args: argparse.Namespace) -> int:
-    from udfs.engine.calc import read_workbook
     from udfs.engine.errors import ReferenceSyntaxError
     from udfs.engine.sweep import (
         check_table_output,
@@ -254,6 +253,8 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
     else:
         if not args.input:
             raise ReferenceSyntaxError("give the workbook to sweep (or --model core)")
+        from udfs.engine.calc import read_workbook
+
         model = read_workbook(args.input)
         table = sweep_workbook(model, varies, args.output_cells or ())
     path = write_table(table, args.out, args.force, inputs)

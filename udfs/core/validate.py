@@ -17,7 +17,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .errors import DomainError
+from .errors import DomainError, InputError
 
 __all__ = [
     "ANY",
@@ -68,7 +68,10 @@ def integer_or_positive(allowed: str) -> Domain:
 def check(name: str, value: ArrayLike, domain: Domain) -> FloatArray:
     """Return ``value`` as a float array; raise :class:`DomainError` naming
     ``name`` and the first bad element if any element is outside ``domain``."""
-    arr = np.asarray(value, dtype=float)
+    try:
+        arr = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(name, value, f"a number {domain.allowed}") from None
     ok = domain.ok(arr)
     if not ok.all():
         bad = arr[~ok].flat[0] if arr.ndim else arr.item()

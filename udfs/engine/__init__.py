@@ -39,7 +39,7 @@ __all__ = [
 ]
 
 _WHERE = {
-    "CAUTION": "calc",
+    "CAUTION": "caution",
     "calculate_file": "calc",
     "EngineError": "errors",
     "FileSafetyError": "errors",

@@ -16,6 +16,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
+from .caution import CAUTION
 from .errors import WorkbookError
 from .files import check_output, read_input, write_bytes_atomic
 from .guard import DEFAULT_LIMITS, Limits
@@ -32,10 +33,6 @@ __all__ = [
     "write_evaluation",
 ]
 
-CAUTION = (
-    "Caution: results are estimates; follow the applicable standards, local codes and "
-    "qualified engineers."
-)
 
 StrPath = str | os.PathLike[str]
 

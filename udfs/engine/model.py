@@ -34,7 +34,7 @@ import time
 import types
 import warnings
 from collections import OrderedDict
-from collections.abc import Iterator, Mapping
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
@@ -256,8 +256,9 @@ class WorkbookModel:
         self._constants: dict[tuple[str, int, int], CellValue] = {}
         self._solved: list[str] | None = None
         self._default: dict[CellRef, CellValue] | None = None
-        self._pipes: dict[tuple[str, ...], Any] = {}
-        self._uncompilable: set[tuple[str, ...]] = set()
+        self._pipes: dict[tuple[tuple[str, ...], tuple[str, ...]], Any] = {}
+        self._uncompilable: set[tuple[tuple[str, ...], tuple[str, ...]]] = set()
+        self._layouts: dict[str, list[tuple[CellRef, int, int]]] = {}
         self._seen: set[tuple[str, ...]] = set()
         self._derived: OrderedDict[tuple[tuple[CellRef, Override], ...], WorkbookModel] = (
             OrderedDict()
@@ -430,19 +431,30 @@ class WorkbookModel:
     def _node(self, sheet_upper: str, row: int, col: int) -> str:
         return f"'[{INTERNAL_BOOK}]{sheet_upper}'!{col_letters(col)}{row}"
 
+    def _layout(self, node: str) -> list[tuple[CellRef, int, int]]:
+        """The cells of a formula node with their (row, column) offsets (cached)."""
+        cells = self._layouts.get(node)
+        if cells is None:
+            sheet, r1, c1, r2, c2 = self._formula_nodes[node]
+            title = self._titles[sheet]
+            cells = [
+                (CellRef(title, r, c), r - r1, c - c1)
+                for r in range(r1, r2 + 1)
+                for c in range(c1, c2 + 1)
+            ]
+            self._layouts[node] = cells
+        return cells
+
     def _collect(self, names: list[str], values: list[Any]) -> dict[CellRef, CellValue]:
         out: dict[CellRef, CellValue] = {}
         for node, value in zip(names, values, strict=True):
-            sheet, r1, c1, r2, c2 = self._formula_nodes[node]
-            title = self._titles[sheet]
             arr = value.value if isinstance(value, Ranges) else np.asarray(value, dtype=object)
             if arr.ndim < 2:
                 arr = arr.reshape(1, -1) if arr.ndim == 1 else arr.reshape(1, 1)
-            for r in range(r1, r2 + 1):
-                for c in range(c1, c2 + 1):
-                    i, j = r - r1, c - c1
-                    v = arr[i, j] if i < arr.shape[0] and j < arr.shape[1] else None
-                    out[CellRef(title, r, c)] = SheetError("#N/A") if v is None else from_engine(v)
+            rows, cols = arr.shape
+            for ref, i, j in self._layout(node):
+                v = arr[i, j] if i < rows and j < cols else None
+                out[ref] = SheetError("#N/A") if v is None else from_engine(v)
         return out
 
     def _full(self, inputs: dict[str, Any]) -> dict[CellRef, CellValue]:
@@ -489,35 +501,90 @@ class WorkbookModel:
         sheet, r1, c1, _, _ = self._formula_nodes[node]
         return CellRef(self._titles[sheet], r1, c1)
 
-    def _compile_pipe(self, keys: tuple[str, ...], args: list[Any]) -> Any:
-        """The model reduced to what ``keys`` reach (cached); a lean replay of it
-        when that gives exactly the engine's own results for ``args``."""
-        if keys in self._pipes:
-            return self._pipes[keys]
-        if keys in self._uncompilable or self._solved is None:
+    def _compile_pipe(
+        self, keys: tuple[str, ...], args: list[Any], outputs: tuple[str, ...] | None = None
+    ) -> Any:
+        """The model reduced to what ``keys`` reach and ``outputs`` need (cached); a
+        lean replay of it when that gives exactly the engine's own results for ``args``."""
+        if self._solved is None:
+            return None
+        outs = tuple(self._solved) if outputs is None else outputs
+        key = (keys, outs)
+        if key in self._pipes:
+            return self._pipes[key]
+        if key in self._uncompilable:
             return None
         try:
             with _quiet():
-                pipe = self._xl.compile(inputs=list(keys), outputs=list(self._solved))
+                pipe = self._xl.compile(inputs=list(keys), outputs=list(outs))
         except Exception:  # the engine cannot reduce this model: evaluate it whole
-            self._uncompilable.add(keys)
+            self._uncompilable.add(key)
             return None
         if LEAN:
             try:
                 lean = LeanPipe(pipe, mode="model")
                 with _quiet():
-                    same = self._pipe_values(pipe(*args)) == self._pipe_values(lean(*args))
+                    same = self._pipe_values(pipe(*args), outs) == self._pipe_values(
+                        lean(*args), outs
+                    )
                 if same:
                     pipe = lean
             except UnsupportedPipeError:
                 pass
-        self._pipes[keys] = pipe
+        self._pipes[key] = pipe
         return pipe
 
-    def _pipe_values(self, res: Any) -> dict[CellRef, CellValue]:
-        assert self._solved is not None
-        res = [res] if len(self._solved) == 1 else list(res)
-        return self._collect(self._solved, res)
+    def _pipe_values(self, res: Any, outputs: tuple[str, ...]) -> dict[CellRef, CellValue]:
+        res = [res] if len(outputs) == 1 else list(res)
+        return self._collect(list(outputs), res)
+
+    def scenario_function(
+        self, targets: list[CellRef | str], outputs: list[CellRef | str]
+    ) -> Callable[..., list[CellValue]]:
+        """A function of the ``targets``' values returning the ``outputs``' values.
+
+        For sweeps: the model is reduced once to the cells between those inputs
+        and those outputs, so each call recomputes only them.
+        """
+        t_refs = [self.resolve(t) for t in targets]
+        o_refs = [self.resolve(o) for o in outputs]
+        fast, structural = self._split(dict.fromkeys(t_refs, 0.0))
+        keys = tuple(sorted(fast))
+        order = [next(k for k, (r, _) in fast.items() if r == ref) for ref in t_refs]
+        formula_outs = tuple(
+            dict.fromkeys(
+                self._formula_at[(r.sheet.upper(), r.row, r.col)]
+                for r in o_refs
+                if self.is_formula(r)
+            )
+        )
+        state: dict[str, Any] = {}
+
+        def slow(*values: Override) -> list[CellValue]:
+            ev = self.evaluate(dict(zip(t_refs, values, strict=True)), compile=True)
+            return [ev.value(r) for r in o_refs]
+
+        def run(*values: Override) -> list[CellValue]:
+            by_node = dict(zip(order, values, strict=True))
+            args = [by_node[k] for k in keys]
+            if "pipe" not in state:
+                if self._solved is None:
+                    self._full(dict(zip(keys, args, strict=True)))
+                solved = set(self._solved or ())
+                outs = tuple(n for n in formula_outs if n in solved)
+                state["outs"] = outs
+                state["pipe"] = self._compile_pipe(keys, args, outs) if outs else None
+            outs, pipe = state["outs"], state["pipe"]
+            if outs and pipe is None:
+                return slow(*values)
+            with _quiet():
+                got = self._pipe_values(pipe(*args), outs) if outs else {}
+            given = dict(zip(t_refs, values, strict=True))
+            return [
+                got[r] if r in got else given[r] if r in given else self.constant(r) for r in o_refs
+            ]
+
+        return slow if structural or not keys else run
 
     def _split(
         self, overrides: Mapping[CellRef | str, Override]
@@ -618,7 +685,7 @@ class WorkbookModel:
                 pipe = self._compile_pipe(keys, args)
             if pipe is not None and self._solved is not None:
                 with _quiet():
-                    values = self._pipe_values(pipe(*args))
+                    values = self._pipe_values(pipe(*args), tuple(self._solved))
                 compiled = True
             else:
                 values = self._full(dict(zip(keys, args, strict=True)))

@@ -30,18 +30,20 @@ import os
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from udfs.sheet.errors import SheetError
 
-from .calc import CAUTION
+from .caution import CAUTION
 from .errors import ReferenceSyntaxError, WorkbookError
 from .files import atomic_writer, check_output
-from .model import WorkbookModel
 from .progress import Progress
 from .refs import CellRef, col_letters
+
+if TYPE_CHECKING:
+    from .model import WorkbookModel
 
 __all__ = [
     "CORE_OUTPUTS",
@@ -212,14 +214,15 @@ def sweep_workbook(
             )
     columns: dict[str, list[Any]] = {v.target: [] for v in varies}
     columns.update({name: [] for name, _ in out_refs})
+    scenario = model.scenario_function(list(targets), [ref for _, ref in out_refs])
     bar = progress or Progress(n, "sweep")
     try:
         for combo in _fastest_first(varies):
-            ev = model.evaluate(dict(zip(targets, combo, strict=True)), compile=True)
+            results = scenario(*combo)
             for v, x in zip(varies, combo, strict=True):
                 columns[v.target].append(x)
-            for name, ref in out_refs:
-                columns[name].append(_cell_out(ev.value(ref)))
+            for (name, _), value in zip(out_refs, results, strict=True):
+                columns[name].append(_cell_out(value))
             bar.advance()
     finally:
         bar.close()
@@ -299,6 +302,14 @@ def _csv_text(table: SweepTable) -> str:
     buf = io.StringIO()
     writer = csv.writer(buf, lineterminator="\n")
     writer.writerow(table.names)
+    columns = [table.columns[n] for n in table.names]
+    if all(isinstance(c, np.ndarray) and c.dtype.kind == "f" for c in columns):
+        # all numbers (core sweeps): one formatting operation per row
+        fmt = ",".join(["%.10g"] * len(columns))
+        rows = np.column_stack(columns).tolist()
+        buf.write("\n".join(fmt % tuple(r) for r in rows))
+        buf.write("\n")
+        return buf.getvalue()
     cols = []
     for name in table.names:
         col = table.columns[name]

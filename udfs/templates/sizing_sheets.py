@@ -425,7 +425,6 @@ def build_bom(wb: Workbook, refs: dict[str, str]) -> Worksheet:
         "USD per good cell", "0.00", PALETTE["band_fill"], (11.5, 12.2),
     )
     ws.add_chart(chart, f"F{chart_row + 1}")
-    finish_sheet(ws, landscape=True)
-    ws.print_area = f"A1:K{total + 24}"
-    ws.freeze_panes = f"C{first}"
+    finish_sheet(ws, landscape=True, freeze=f"C{first}")
+    ws.print_area = f"A1:K{total + 27}"  # the table, key figures and the chart
     return ws
