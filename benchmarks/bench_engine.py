@@ -22,7 +22,9 @@ Run: ``python benchmarks/bench_engine.py`` (prints; no assertions).
 
 from __future__ import annotations
 
+import contextlib
 import io
+import os
 import shutil
 import statistics
 import subprocess
@@ -41,8 +43,6 @@ sys.path.insert(0, str(ROOT))
 
 from udfs.engine.calc import calculate_file  # noqa: E402
 from udfs.engine.model import clear_cache, load_model  # noqa: E402
-from udfs.engine.progress import Progress  # noqa: E402
-from udfs.engine.sweep import parse_vary, sweep_workbook  # noqa: E402
 
 ROWS = 295  # 5 formula columns x 295 rows + summary = about 1,500 formula cells
 
@@ -110,12 +110,17 @@ def run(cmd: list[str], cwd: Path | None = None) -> float:
 def cold_and_warm(data: bytes, work: Path) -> dict[str, float]:
     src = work / "bench.xlsx"
     src.write_bytes(data)
-    clear_cache()
-    cold, report = timed(lambda: calculate_file(src, work / "cold-out.xlsx", force=True))
+    colds = []
+    report = None
+    for _ in range(3):  # cold: no cached model (imports already done)
+        clear_cache()
+        dt, report = timed(lambda: calculate_file(src, work / "cold-out.xlsx", force=True))
+        colds.append(dt)
+    assert report is not None
     model = load_model(data, "bench.xlsx")
     n_formulas = model.formula_count
     same, _ = timed(lambda: model.evaluate())
-    results = {"formulas": n_formulas, "cold": cold, "warm_same": same}
+    results = {"formulas": n_formulas, "cold": statistics.median(colds), "warm_same": same}
     for label, target in (("warm_all", "Inputs!B1"), ("warm_one_column", "Inputs!B6")):
         first, _ = timed(lambda t=target: model.evaluate({t: 1.0}))  # full run, learns inputs
         compile_t, _ = timed(lambda t=target: model.evaluate({t: 2.0}))  # reduces the model
@@ -123,8 +128,7 @@ def cold_and_warm(data: bytes, work: Path) -> dict[str, float]:
         results[f"{label}_first"] = first
         results[f"{label}_compile"] = compile_t
         results[label] = statistics.median(times)
-    errors = [d for d in report.evaluation.errors()]
-    results["errors"] = len(errors)
+    results["errors"] = len(report.evaluation.errors())
     return results
 
 
@@ -197,23 +201,23 @@ def core_sweep(work: Path) -> tuple[float, int]:
     return dt, rows
 
 
-def python_startup() -> float:
-    """Python start plus the imports a `calc` needs (engine, formulas, our functions)."""
-    code = "import udfs.cli, udfs.engine.model, udfs.engine.adapter as a; a.ensure_registered()"
+def startup(code: str) -> float:
+    """Python start plus the given imports, in a fresh process (median of 3)."""
     return statistics.median(run([sys.executable, "-c", code], cwd=ROOT) for _ in range(3))
 
 
-def workbook_sweep(
-    data: bytes, name: str, vary: list[str], outputs: list[str]
-) -> tuple[float, int]:
+CALC_IMPORTS = "import udfs.cli, udfs.engine.model, udfs.engine.adapter as a; a.ensure_registered()"
+CORE_IMPORTS = "import udfs.cli, udfs.engine.sweep, udfs.core.sizing, udfs.demo"
+
+
+def workbook_sweep(data: bytes, name: str, target: str, output: str, n: int) -> tuple[float, float]:
+    """(seconds of the first scenario, scenarios per second after it)."""
     model = load_model(data, name)
-    varies = [parse_vary(v) for v in vary]
-    n = 1
-    for v in varies:
-        n *= len(v.values)
-    bar = Progress(n, "sweep", stream=io.StringIO())
-    dt, _ = timed(lambda: sweep_workbook(model, varies, outputs, progress=bar))
-    return dt, n
+    scenario = model.scenario_function([target], [output])
+    first, _ = timed(lambda: scenario(1.0))
+    values = [1.0 + 0.01 * (i + 1) for i in range(n)]
+    rest, _ = timed(lambda: [scenario(v) for v in values])
+    return first, n / rest
 
 
 def main() -> None:
@@ -222,61 +226,55 @@ def main() -> None:
     native = build_workbook(ours=False)
     (work / "ours.xlsx").write_bytes(ours)
     (work / "native.xlsx").write_bytes(native)
+    load_model(native, "warm-up.xlsx").evaluate()  # imports and registry, not timed
+    with contextlib.suppress(OSError):
+        load = ", ".join(f"{x:.2f}" for x in os.getloadavg())
+        print(f"(load average of the machine over 1, 5, 15 min: {load}; 2 cores)")
 
-    print("1. Cold vs warm evaluation (in process)")
+    print("1. Cold vs warm evaluation (in process; cold = median of 3, no cached model)")
     for label, data in (("with CW_ functions", ours), ("native only", native)):
         r = cold_and_warm(data, work)
         print(f"   workbook {label}: {r['formulas']:,} formula cells, {r['errors']} error cells")
         print(f"     cold (read, check, compile, evaluate, write):   {r['cold']:8.3f} s")
-        print(
-            f"     warm, same inputs (cached results):             {r['warm_same'] * 1e3:8.3f} ms"
-        )
+        print(f"     warm, same inputs (cached results):          {r['warm_same'] * 1e3:8.3f} ms")
         for case, what in (
             ("warm_all", "an input every formula uses"),
             ("warm_one_column", "an input one column uses"),
         ):
             print(f"     new value of {what}:")
-            print(f"       first time (full evaluation):               {r[case + '_first']:8.3f} s")
+            print(f"       first time (full evaluation):            {r[case + '_first']:8.3f} s")
+            print(f"       second time (reduces the model once):    {r[case + '_compile']:8.3f} s")
             print(
-                f"       second time (reduces the model once):       {r[case + '_compile']:8.3f} s"
-            )
-            print(
-                f"       then, per evaluation (compiled):            {r[case] * 1e3:8.1f} ms"
+                f"       then, per evaluation (compiled):         {r[case] * 1e3:8.1f} ms"
                 f"   cold/warm = {r['cold'] / r[case]:7.1f}x"
             )
 
     office = find_office()
-    start = python_startup()
-    print(f"\n2. LibreOffice comparison (Python start + imports of the CLI: {start:.2f} s)")
+    start = startup(CALC_IMPORTS)
+    print(f"\n2. LibreOffice comparison (Python start + imports a calc needs: {start:.2f} s)")
     cli = {}
     for label in ("ours", "native"):
-        cli[label] = statistics.median(
-            run(
-                [
-                    sys.executable,
-                    "-m",
-                    "udfs.cli",
-                    "calc",
-                    str(work / f"{label}.xlsx"),
-                    "-o",
-                    str(work / f"cli-{label}.xlsx"),
-                    "--force",
-                ],
-                cwd=ROOT,
-            )
-            for _ in range(3)
-        )
-        print(f"   cellwright calc {label}.xlsx end to end:               {cli[label]:8.2f} s")
+        cmd = [
+            sys.executable,
+            "-m",
+            "udfs.cli",
+            "calc",
+            str(work / f"{label}.xlsx"),
+            "-o",
+            str(work / f"cli-{label}.xlsx"),
+            "--force",
+        ]
+        cli[label] = statistics.median(run(cmd, cwd=ROOT) for _ in range(3))
+        print(f"   cellwright calc {label}.xlsx end to end:          {cli[label]:8.2f} s")
     if office is None:
         print("   soffice/libreoffice not on PATH: LibreOffice comparison skipped")
     else:
-        lo = office_times(
-            office, work, {"ours": work / "ours.xlsx", "native": work / "native.xlsx"}
-        )
-        print(f"   LibreOffice start-up (trivial workbook):            {lo['startup']:8.2f} s")
+        files = {"ours": work / "ours.xlsx", "native": work / "native.xlsx"}
+        lo = office_times(office, work, files)
+        print(f"   LibreOffice start-up (trivial workbook):         {lo['startup']:8.2f} s")
         for label in ("ours", "native"):
             print(
-                f"   LibreOffice recalculation {label}.xlsx end to end:     {lo[label]:8.2f} s"
+                f"   LibreOffice recalculation {label}.xlsx end to end: {lo[label]:8.2f} s"
                 f"   engine/LibreOffice = {cli[label] / lo[label]:.2f}"
             )
         print(f"   cross-check (native workbook): {cross_check(work, work / 'native.xlsx')}")
@@ -284,15 +282,12 @@ def main() -> None:
 
     print("\n3. Core sweep, end to end (cellwright sweep --model core, CSV)")
     dt, rows = core_sweep(work)
-    print(f"   {rows:,} scenarios in {dt:.2f} s (of which Python start + imports ~{start:.2f} s)")
+    core_start = startup(CORE_IMPORTS)
+    print(f"   {rows:,} scenarios in {dt:.2f} s (Python start + imports alone: {core_start:.2f} s)")
 
-    print("\n4. Workbook sweeps (in process, compiled model reused)")
-    for label, data, vary, outs in (
-        ("bench, input used by every formula", ours, ["Inputs!B1=1:20:1"], ["total_energy_Wh"]),
-        ("bench, input used by one column", ours, ["Inputs!B6=1:40:1"], ["average_count"]),
-    ):
-        dt, n = workbook_sweep(data, "bench.xlsx", vary, outs)
-        print(f"   {label}: {n} scenarios in {dt:.2f} s = {n / dt:6.1f} scenarios/s")
+    print("\n4. Workbook sweeps (in process; the first scenario reduces the model)")
+    cases = [("bench, input used by every formula", ours, "Inputs!B1", "total_energy_Wh", 20)]
+    cases.append(("bench, input used by one column", ours, "Inputs!B6", "average_count", 40))
     try:
         from udfs.engine import templates
 
@@ -301,16 +296,11 @@ def main() -> None:
         made = None
         print(f"   demo workbook unavailable ({type(exc).__name__}: {exc})")
     if made is not None:
-        _, demo = made
-        m = load_model(demo, "demo.xlsx")
-        if "in_np_ratio" in m.named_cells and "out_cost_per_kWh_USD" in m.named_cells:
-            dt, n = workbook_sweep(
-                demo, "demo.xlsx", ["in_np_ratio=1.05:1.2:0.01"], ["out_cost_per_kWh_USD"]
-            )
-            print(
-                f"   cell-sizing template ({m.formula_count} formulas), in_np_ratio: "
-                f"{n} scenarios in {dt:.2f} s = {n / dt:6.1f} scenarios/s"
-            )
+        label = "cell-sizing template, in_np_ratio -> out_cost_per_kWh_USD"
+        cases.append((label, made[1], "in_np_ratio", "out_cost_per_kWh_USD", 200))
+    for label, data, target, output, n in cases:
+        first, rate = workbook_sweep(data, "sweep.xlsx", target, output, n)
+        print(f"   {label}: first {first:.2f} s, then {rate:7.1f} scenarios/s ({n} scenarios)")
     shutil.rmtree(work, ignore_errors=True)
 
 

@@ -14,6 +14,7 @@ independent, which the catalogue note says).
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 
 import numpy as np
@@ -46,9 +47,14 @@ def nernst(
 ) -> Array:
     """Potential (V) of Ox + n e- = Red: E0 - slope * log10(a_red / a_ox)."""
     e = check("e0_V", e0_V, ANY)
+    n = check("electrons", electrons, ELECTRONS)
     ox = check("ox_activity", ox_activity, POSITIVE)
     red = check("red_activity", red_activity, POSITIVE)
-    return e - nernst_slope(electrons, temp_C) * (np.log10(red) - np.log10(ox))
+    t = check("temp_C", temp_C, CELSIUS)
+    ratio = red / ox
+    # one cell: math.log10 on a float is several times cheaper than the ufunc
+    logq = math.log10(ratio) if isinstance(ratio, float) else np.log10(ratio)
+    return e - LN10 * R * (t + T0) / (n * F) * logq
 
 
 def e0(couple_id: str, temp_C: ArrayLike = 25.0) -> Array:

@@ -11,6 +11,7 @@ udfs.core.errors.DomainError: mass must be > 0 (got -2)
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -49,7 +50,7 @@ class Domain:
             return np.isfinite(values) & self.test(values)
 
 
-ANY = Domain("a finite number", lambda a: np.ones(np.shape(a), dtype=bool))
+ANY = Domain("a finite number", lambda a: a == a)  # finiteness is checked in ok()
 POSITIVE = Domain("> 0", lambda a: a > 0)
 NONNEGATIVE = Domain(">= 0", lambda a: a >= 0)
 FRACTION = Domain("between 0 and 1", lambda a: (a >= 0) & (a <= 1))
@@ -68,6 +69,11 @@ def integer_or_positive(allowed: str) -> Domain:
 def check(name: str, value: ArrayLike, domain: Domain) -> FloatArray:
     """Return ``value`` as a float array; raise :class:`DomainError` naming
     ``name`` and the first bad element if any element is outside ``domain``."""
+    if type(value) is float or type(value) is int:  # fast path for one cell
+        x = float(value)
+        if math.isfinite(x) and bool(domain.test(x)):  # type: ignore[arg-type,unused-ignore]
+            return np.float64(x)  # type: ignore[return-value,unused-ignore]
+        raise DomainError(name, x, domain.allowed)
     try:
         arr = np.asarray(value, dtype=float)
     except (TypeError, ValueError):

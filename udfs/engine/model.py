@@ -6,7 +6,14 @@ content (and the generation of the function registry), so evaluating the same
 workbook again -- with the same or new input values -- skips loading and
 parsing. The first evaluation with a given set of input cells runs the whole
 model; from the second on, the model is reduced to the cells those inputs
-reach (a compiled "pipe") and only they are recomputed.
+reach (a compiled "pipe") and only they are recomputed. Pipes are replayed by
+:class:`udfs.engine.lean.LeanPipe` (per formula always; per workbook once it
+has given exactly the engine's own results); ``CELLWRIGHT_LEAN=0`` turns that off.
+Sweeps use :meth:`WorkbookModel.scenario_function`, reduced to the cells
+between the varied inputs and the requested outputs.
+
+There is no cache on disk: the engine's compiled objects do not pickle, and
+unpickling from a shared directory would run code from it.
 
 Problems are reported as :class:`Diagnostic` lines naming the sheet and cell:
 circular references, unsupported functions (``#NAME?``), error values (with
