@@ -120,11 +120,19 @@ def cold_and_warm(data: bytes, work: Path) -> dict[str, float]:
     model = load_model(data, "bench.xlsx")
     n_formulas = model.formula_count
     same, _ = timed(lambda: model.evaluate())
-    results = {"formulas": n_formulas, "cold": statistics.median(colds), "warm_same": same}
+    results: dict[str, float] = {
+        "formulas": n_formulas,
+        "cold": statistics.median(colds),
+        "warm_same": same,
+    }
     for label, target in (("warm_all", "Inputs!B1"), ("warm_one_column", "Inputs!B6")):
-        first, _ = timed(lambda t=target: model.evaluate({t: 1.0}))  # full run, learns inputs
-        compile_t, _ = timed(lambda t=target: model.evaluate({t: 2.0}))  # reduces the model
-        times = [timed(lambda t=target, v=v: model.evaluate({t: v}))[0] for v in (3.0, 4.0, 5.0)]
+
+        def once(value: float, cell: str = target) -> float:
+            return timed(lambda: model.evaluate({cell: value}))[0]
+
+        first = once(1.0)  # a full run; the model learns these input cells
+        compile_t = once(2.0)  # reduces the model to what the input reaches
+        times = [once(v) for v in (3.0, 4.0, 5.0)]
         results[f"{label}_first"] = first
         results[f"{label}_compile"] = compile_t
         results[label] = statistics.median(times)

@@ -179,6 +179,17 @@ def test_tables_written_as_csv_and_xlsx_with_chart(tmp_path):
         write_table(table, tmp_path / "s.txt")
 
 
+def test_text_outputs_are_tabulated_but_not_charted(tmp_path):
+    model = load_model(_book(), "sweep.xlsx")
+    table = sweep_workbook(
+        model, [parse_vary("In!A1=1,5")], ["In!B3", "prod"], progress=_quiet_bar(2)
+    )
+    wb = openpyxl.load_workbook(write_table(table, tmp_path / "t.xlsx"))
+    charts = wb["Sweep"]._charts
+    assert len(charts) == 1  # In!B3 holds an error value in one scenario: not charted
+    assert [c.value for c in wb["Sweep"]["B"]][1:] == [1, "#DIV/0!"]
+
+
 def test_progress_writes_lines_with_eta_when_not_a_terminal():
     buf = io.StringIO()
     bar = Progress(50, "sweep", stream=buf)

@@ -10,7 +10,7 @@ varied input changes fastest, so each run of it is one line in the chart.
   :func:`udfs.core.sizing.design_cell` (CellSpec field names, the demo spec
   as the base);
 * :func:`write_table` writes CSV, or an .xlsx with the table, a chart per
-  output (up to four) and an About sheet with the caution.
+  numeric output (up to four) and an About sheet with the caution.
 
 >>> parse_vary("Inputs!B4=40:60:10")
 Vary(target='Inputs!B4', values=(40.0, 50.0, 60.0))
@@ -321,6 +321,13 @@ def _csv_text(table: SweepTable) -> str:
     return buf.getvalue()
 
 
+def _numeric(column: Any) -> bool:
+    """True when every value of a column is a number (text and errors are not charted)."""
+    if isinstance(column, np.ndarray):
+        return column.dtype.kind in "fiu"
+    return all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in column)
+
+
 def _xlsx_bytes(table: SweepTable) -> bytes:
     from openpyxl import Workbook
     from openpyxl.chart import Reference, ScatterChart, Series
@@ -341,8 +348,9 @@ def _xlsx_bytes(table: SweepTable) -> bytes:
     block = max(table.block, 1)
     blocks = n // block
     x_col = 1
-    for k, out in enumerate(table.outputs[:MAX_CHARTS]):
-        y_col = len(table.inputs) + 1 + k
+    numeric = [o for o in table.outputs if _numeric(table.columns[o])]
+    for k, out in enumerate(numeric[:MAX_CHARTS]):
+        y_col = table.names.index(out) + 1
         chart = ScatterChart()
         chart.title = f"{out} vs {first}"
         chart.x_axis.title = first
