@@ -379,3 +379,287 @@ def test_every_writer_survives_a_full_disk(capsys, book, tmp_path, monkeypatch, 
     assert code == 1 and "the disk is full; any existing file is unchanged" in err
     assert target.read_bytes() == b"old"
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".tmp")]
+
+
+# ------------------------------------------------------------------ bad-input table
+# (tests/bad_inputs.py CLI_BAD_INPUTS; docs/bad-inputs.md lists the same rows)
+
+
+def _cli_case_id(row):
+    return f"{row.command}-{row.why}"
+
+
+def _cli_cases():
+    from bad_inputs import CLI_BAD_INPUTS
+
+    return CLI_BAD_INPUTS
+
+
+@pytest.mark.parametrize("row", _cli_cases(), ids=_cli_case_id)
+def test_cli_bad_input_table(tmp_path, row):
+    from bad_input_catalogue import cli_response, prepare_cli, run_cli
+
+    argv = prepare_cli(row, tmp_path)
+    before = {p.name: p.read_bytes() for p in tmp_path.iterdir() if p.is_file()}
+    result = run_cli(argv)
+    assert result.code == row.exit_code, result.stderr
+    line = cli_response(result)
+    assert row.fragment in line, result.stderr
+    assert line.startswith("cellwright") and "Traceback" not in result.stderr
+    assert "internal error" not in result.stderr
+    # one line of reason (a progress bar may precede it on stderr)
+    assert result.stderr.rstrip("\n").rsplit("\n", 1)[-1].strip() == line
+    # nothing was written and nothing that existed changed (the input included)
+    after = {p.name: p.read_bytes() for p in tmp_path.iterdir() if p.is_file()}
+    assert after == before
+
+
+# ------------------------------------------------------------------ file matrix, every writer
+#
+# CI runs as root, where chmod cannot make a directory read-only; the failures are
+# therefore also simulated by making the operating-system calls fail as they would.
+
+
+def _all_writers(book, out):
+    """_writers plus demo (which writes the demo workbook)."""
+    w = _writers(book, out)
+    w["demo"] = ["demo", "-o", out.with_suffix(".xlsx")]
+    return w
+
+
+WRITERS = ["calc", "sweep-csv", "sweep-core-xlsx", "template", "demo"]
+
+
+@pytest.fixture
+def quick_demo(book, monkeypatch):
+    """The demo command writing a small stand-in workbook: the same write path
+    (write_evaluation, atomic writer) in a fraction of the time; the real demo
+    workbook is written in test_demo_survives_a_full_disk."""
+    from udfs.engine import templates
+
+    monkeypatch.setattr(templates, "demo_workbook", lambda: ("stand-in", book.read_bytes()))
+
+
+def _no_tmp_left(directory):
+    return not [p for p in directory.iterdir() if p.name.endswith(".tmp")]
+
+
+@pytest.mark.parametrize("command", ["demo"])
+def test_demo_refuses_existing_and_missing_directories(capsys, book, tmp_path, command):
+    args = _all_writers(book, tmp_path / "out")[command]
+    target = args[-1]
+    target.write_bytes(b"old")
+    code, _, err = call(capsys, *args)
+    assert code == 1 and "already exists; add --force" in err and err.count("\n") == 1
+    assert target.read_bytes() == b"old"
+    code, _, err = call(capsys, *args[:-1], tmp_path / "no-such-dir" / target.name)
+    assert code == 1 and "does not exist" in err
+
+
+@pytest.mark.parametrize("command", WRITERS)
+def test_every_writer_refuses_a_read_only_directory(
+    capsys, book, tmp_path, monkeypatch, command, quick_demo
+):
+    from udfs.engine import files
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    before = _digest(book)
+    monkeypatch.setattr(files.os, "access", lambda *a, **k: False)
+    code, _, err = call(capsys, *args)
+    assert code == 1 and "is not writable" in err and err.strip().count("\n") == 0, err
+    assert not args[-1].exists() and _digest(book) == before
+
+
+@pytest.mark.parametrize("command", WRITERS)
+def test_every_writer_reports_a_directory_that_refuses_new_files(
+    capsys, book, tmp_path, monkeypatch, command, quick_demo
+):
+    # the check passed, then creating the temporary file fails (as in a read-only directory)
+    from udfs.engine import files
+
+    def denied(*a, **k):
+        raise PermissionError(13, "Permission denied")
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    before = _digest(book)
+    monkeypatch.setattr(files.tempfile, "mkstemp", denied)
+    code, _, err = call(capsys, *args)
+    assert code == 1, err
+    assert "cannot create a file in" in err and "permission denied" in err
+    assert not args[-1].exists() and _digest(book) == before
+
+
+@pytest.mark.skipif(os.geteuid() == 0, reason="root may write into read-only directories")
+@pytest.mark.parametrize("command", ["calc", "sweep-csv"])
+def test_every_writer_refuses_a_really_read_only_directory(capsys, book, tmp_path, command):
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    args = _all_writers(book, ro / "out")[command]
+    ro.chmod(0o500)
+    try:
+        code, _, err = call(capsys, *args)
+    finally:
+        ro.chmod(0o700)
+    assert code == 1 and "not writable" in err
+
+
+class _FullDisk:
+    """A file object whose writes fail with ENOSPC after the first few bytes."""
+
+    def __init__(self, fh):
+        self._fh = fh
+
+    def write(self, data):
+        raise OSError(28, "No space left on device")
+
+    def __getattr__(self, name):
+        return getattr(self._fh, name)
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self._fh.close()
+        return False
+
+
+@pytest.mark.parametrize("command", WRITERS)
+def test_every_writer_survives_a_failing_write(
+    capsys, book, tmp_path, monkeypatch, command, quick_demo
+):
+    from udfs.engine import files
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    target = args[-1]
+    target.write_bytes(b"old")
+    before = _digest(book)
+    real_fdopen = files.os.fdopen
+    monkeypatch.setattr(files.os, "fdopen", lambda fd, *a, **k: _FullDisk(real_fdopen(fd, *a, **k)))
+    code, _, err = call(capsys, *args, "--force")
+    assert code == 1 and "the disk is full; any existing file is unchanged" in err, err
+    assert target.read_bytes() == b"old" and _no_tmp_left(tmp_path)
+    assert _digest(book) == before
+
+
+@pytest.mark.parametrize("command", ["demo"])
+def test_demo_survives_a_full_disk(capsys, book, tmp_path, monkeypatch, command):
+    from udfs.engine import files
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    target = args[-1]
+    target.write_bytes(b"old")
+
+    def full(fd):
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(files.os, "fsync", full)
+    code, _, err = call(capsys, *args, "--force")
+    assert code == 1 and "the disk is full; any existing file is unchanged" in err
+    assert target.read_bytes() == b"old" and _no_tmp_left(tmp_path)
+
+
+@pytest.mark.parametrize("command", WRITERS)
+def test_every_writer_interrupted_keeps_the_old_file(
+    capsys, book, tmp_path, monkeypatch, command, quick_demo
+):
+    # Ctrl-C at the worst moment: the new file is complete, the rename is next
+    from udfs.engine import files
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    target = args[-1]
+    target.write_bytes(b"old")
+    before = _digest(book)
+
+    def interrupted(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(files.os, "replace", interrupted)
+    code, _, err = call(capsys, *args, "--force")
+    assert code == 130 and "interrupted; no output was written" in err, err
+    assert target.read_bytes() == b"old" and _no_tmp_left(tmp_path)
+    assert _digest(book) == before
+
+
+@pytest.mark.parametrize("command", ["calc", "sweep-csv"])
+def test_locked_input_is_reported_and_untouched(capsys, book, tmp_path, monkeypatch, command):
+    import builtins
+
+    from udfs.engine import files
+
+    args = _all_writers(book, tmp_path / "out")[command]
+    before = _digest(book)
+    real_open = builtins.open
+
+    def locked(path, *a, **k):
+        if os.fspath(path) == os.fspath(book):
+            raise PermissionError(13, "Permission denied")  # e.g. locked by another program
+        return real_open(path, *a, **k)
+
+    monkeypatch.setattr(files, "open", locked, raising=False)
+    code, _, err = call(capsys, *args)
+    assert code == 1 and "cannot be read: permission denied" in err and err.count("\n") == 1
+    assert not args[-1].exists() and _digest(book) == before
+
+
+@pytest.mark.parametrize("command", ["calc", "sweep-csv"])
+def test_input_vanishing_is_reported(capsys, book, tmp_path, command):
+    args = _all_writers(book, tmp_path / "out")[command]
+    book.unlink()
+    code, _, err = call(capsys, *args)
+    assert code == 1 and "no such file" in err and err.count("\n") == 1
+    assert not args[-1].exists()
+
+
+@pytest.mark.parametrize("command", ["calc", "sweep-csv"])
+def test_input_bytes_never_change_on_success(capsys, book, tmp_path, command):
+    args = _all_writers(book, tmp_path / "out")[command]
+    before, stat_before = _digest(book), book.stat().st_mtime_ns
+    code, _, err = call(capsys, *args)
+    assert code == 0, err
+    assert _digest(book) == before and book.stat().st_mtime_ns == stat_before
+    assert args[-1].exists()
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="engine bug (udfs/engine/sweep.py, not ours to change): a core sweep writes "
+    "inf and 0 for an overflowing scenario instead of marking it as an error",
+)
+def test_core_sweep_marks_non_finite_results(capsys, tmp_path):
+    out = tmp_path / "np.csv"
+    code, _, err = call(
+        capsys, "sweep", "--model", "core", "--vary", "np_ratio=1e308", "--out", out
+    )
+    assert code in (0, 1), err
+    if code == 0:
+        rows = list(csv.DictReader(out.open()))
+        for value in rows[0].values():
+            assert value.lower() not in ("inf", "-inf", "nan"), rows[0]
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="engine bug (udfs/engine/sweep.py grid_values, not ours to change): a step so "
+    "small that (stop - start) / step overflows raises OverflowError (exit 3, internal error)",
+)
+def test_vary_with_a_vanishing_step_is_refused(capsys, tmp_path):
+    out = tmp_path / "s.csv"
+    code, _, err = call(
+        capsys, "sweep", "--model", "core", "--vary", "np_ratio=0:1:1e-310", "--out", out
+    )
+    assert code == 1 and "values on one axis" in err, err
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="engine bug (udfs/engine/sweep.py grid_values, not ours to change): when "
+    "(stop - start) * step underflows to 0 the direction check passes, the range has no "
+    "values and an empty table is written with exit 0",
+)
+def test_vary_with_an_underflowing_range_is_refused(capsys, tmp_path):
+    out = tmp_path / "s.csv"
+    code, _, err = call(
+        capsys, "sweep", "--model", "core", "--vary", "np_ratio=4.7e-211:0:4.7e-211", "--out", out
+    )
+    assert code == 1 and "never goes from" in err, err
+    assert not out.exists()

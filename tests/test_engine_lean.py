@@ -60,6 +60,7 @@ def _template() -> bytes | None:
 
 def _evaluate_all(data, monkeypatch, lean, overrides_list):
     monkeypatch.setattr(model_mod, "LEAN", lean)
+    monkeypatch.setattr(model_mod, "FAST", False)  # the lean replay is the full engine's
     m = WorkbookModel(data, "lean.xlsx")
     out = [m.evaluate().values]
     for ov in overrides_list:

@@ -6,10 +6,13 @@ from __future__ import annotations
 
 import io
 import os
+import random
 import time
 import tracemalloc
+import warnings
 import zipfile
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
+from typing import NamedTuple
 
 import pytest
 
@@ -299,3 +302,226 @@ def test_circular_references_are_reported_not_looped():
 def test_nesting_counts_calls_not_strings_or_grouping():
     assert formula_nesting('IF(A1>0,"((((",(1+2)*3)') == 1
     assert formula_nesting("'a(b'!A1+SUM(MAX(1,2))") == 2
+
+
+# ------------------------------------------------------------------ through the command
+#
+# Every hostile file below goes through ``cellwright calc`` as a user runs it (main()
+# in one child process that runs all cases in turn). Safety bounds, not speed targets:
+# each run must finish within HOSTILE_SECONDS, and the child's peak resident memory
+# (interpreter, numpy, the formulas engine and C allocations included) must stay under
+# HOSTILE_PEAK_RSS_MIB. docs/bad-inputs.md states the same bounds (it reads them here).
+
+HOSTILE_SECONDS = 20.0
+HOSTILE_PEAK_RSS_MIB = 512
+
+
+def _rand(n: int, seed: int = 6) -> bytes:
+    """Incompressible but reproducible bytes (the catalogue must not change per run)."""
+    return random.Random(seed).randbytes(n)
+
+
+def _lol() -> bytes:
+    lol = (
+        '<?xml version="1.0"?><!DOCTYPE lolz [<!ENTITY lol "lol">'
+        + "".join(
+            f'<!ENTITY lol{i} "{f"&lol{i - 1};" * 10 if i > 1 else "&lol;" * 10}">'
+            for i in range(1, 10)
+        )
+        + "]>"
+    )
+    rows = '<row r="1"><c r="A1" t="inlineStr"><is><t>&lol9;</t></is></c></row>'
+    return package(sheet=lol + sheet_xml(rows))
+
+
+def _external_link() -> bytes:
+    link = (
+        f'<externalLink xmlns="{MAIN}"><externalBook xmlns:r="{REL}" r:id="rId1"/></externalLink>'
+    )
+    link_rels = (
+        f'<Relationships xmlns="{PKG_REL}"><Relationship Id="rId1" Type="{REL}/externalLinkPath"'
+        ' Target="file:///C:/secret/prices.xlsx" TargetMode="External"/></Relationships>'
+    )
+    rows = '<row r="1"><c r="A1"><f>\'[1]Prices\'!B2*2</f></c></row>'
+    return package(
+        sheet=sheet_xml(rows),
+        extra={
+            "xl/externalLinks/externalLink1.xml": link,
+            "xl/externalLinks/_rels/externalLink1.xml.rels": link_rels,
+        },
+    )
+
+
+def _encrypted_entries() -> bytes:
+    data = bytearray(package())
+    for sig, off in ((b"PK\x03\x04", 6), (b"PK\x01\x02", 8)):
+        i = data.find(sig)
+        while i >= 0:
+            data[i + off] |= 1
+            i = data.find(sig, i + 4)
+    return bytes(data)
+
+
+def _duplicate_parts() -> bytes:
+    buf = io.BytesIO(package())
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        with zipfile.ZipFile(buf, "a") as zf:
+            zf.writestr("xl/workbook.xml", workbook_xml())
+    return buf.getvalue()
+
+
+def _bare_zip() -> bytes:
+    buf = io.BytesIO()
+    with zipfile.ZipFile(buf, "w") as zf:
+        zf.writestr("hello.txt", "hi")
+    return buf.getvalue()
+
+
+def _cells(xml_cells: str) -> bytes:
+    return package(sheet=sheet_xml(f'<row r="1">{xml_cells}</row>'))
+
+
+class Hostile(NamedTuple):
+    """A hostile workbook, the exit code of ``cellwright calc`` and its message."""
+
+    label: str
+    build: Callable[[], bytes]
+    exit_code: int
+    fragment: str
+    flags: tuple[str, ...] = ()
+    reported: bool = False  # evaluated and written, the problem reported (not refused)
+
+
+HOSTILE_FILES: tuple[Hostile, ...] = (
+    Hostile("entity expansion (billion laughs)", _lol, 1, "declares a DTD or entities"),
+    Hostile(
+        "external entity (XXE)",
+        lambda: package(
+            workbook='<?xml version="1.0"?><!DOCTYPE r [<!ENTITY x SYSTEM "file:///etc/passwd">]>'
+            + workbook_xml()
+        ),
+        1,
+        "xl/workbook.xml declares a DTD or entities",
+    ),
+    Hostile(
+        "zip bomb (80 MiB of zeros in one part)",
+        lambda: package(extra={"xl/media/bomb.bin": bytes(80 * 1024 * 1024)}),
+        1,
+        "unpacks to 80 MiB (limit 64 MiB per part)",
+    ),
+    Hostile(
+        "part compressed past 100:1 (4 MiB of zeros)",
+        lambda: package(extra={"xl/media/zeros.bin": bytes(4 * 1024 * 1024)}),
+        1,
+        "limit 100:1",
+    ),
+    Hostile(
+        "file larger than 32 MiB",
+        lambda: package(extra={"xl/media/noise.bin": _rand(33 * 1024 * 1024)}, compression=0),
+        1,
+        "larger than the 32 MiB the engine accepts",
+    ),
+    Hostile(
+        "enormous shared-strings table (500,001 entries)",
+        lambda: package(
+            strings=f'<sst xmlns="{MAIN}">'
+            + "".join(f"<si><t>s{i}</t></si>" for i in range(500_001))
+            + "</sst>"
+        ),
+        1,
+        "more than 500,000 shared strings",
+    ),
+    Hostile(
+        "1,048,576 empty rows (a whole sheet)",
+        lambda: package(sheet=sheet_xml("".join(f'<row r="{i}"/>' for i in range(1, 1_048_577)))),
+        1,
+        "more than 250,000 rows",
+    ),
+    Hostile(
+        "3,000,000 identical empty rows",
+        lambda: package(sheet=sheet_xml("<row/>" * 3_000_000)),
+        1,
+        "compresses",
+    ),
+    Hostile(
+        "10,001 formula cells",
+        lambda: _cells("".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, 10_002))),
+        1,
+        "more than 10,000 formula cells",
+    ),
+    Hostile(
+        "formula nested 65 deep (Excel: 64)",
+        lambda: _cells(f'<c r="A1"><f>{"ABS(" * 65}1{")" * 65}</f></c>'),
+        1,
+        "nests 65 function calls (limit 64, as in Excel)",
+    ),
+    Hostile(
+        "formula of 8,399 characters (Excel: 8,192)",
+        lambda: _cells(f'<c r="A1"><f>{"+".join(["1"] * 4200)}</f></c>'),
+        1,
+        "8,399 characters long (limit 8,192)",
+    ),
+    Hostile(
+        "1,001 zip parts",
+        lambda: package(extra={f"xl/media/p{i}.bin": b"x" for i in range(1001)}),
+        1,
+        "zip parts (limit 1000)",
+    ),
+    Hostile("two parts with one name", _duplicate_parts, 1, "two parts with the same name"),
+    Hostile("encrypted zip entries", _encrypted_entries, 1, "is encrypted"),
+    Hostile(
+        "bzip2-compressed parts",
+        lambda: package(compression=zipfile.ZIP_BZIP2),
+        1,
+        "compression method spreadsheets do not use",
+    ),
+    Hostile("not a zip at all", lambda: b"hello, not a zip", 1, "not a zip archive"),
+    Hostile(
+        "password-protected (OLE) workbook",
+        lambda: b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1" + bytes(512),
+        1,
+        "password-protected workbook",
+    ),
+    Hostile("truncated zip", lambda: package()[:200], 1, "not a zip archive"),
+    Hostile("zip without workbook parts", _bare_zip, 1, "no [Content_Types].xml"),
+    Hostile(
+        "damaged sheet XML",
+        lambda: package(sheet=f'<worksheet xmlns="{MAIN}"><sheetData><row>'),
+        1,
+        "damaged part xl/worksheets/sheet1.xml",
+    ),
+    Hostile(
+        "circular references (reported; --strict exits 1)",
+        lambda: _cells(
+            '<c r="A1"><f>B1+1</f></c><c r="B1"><f>C1+1</f></c><c r="C1"><f>A1+1</f></c>'
+        ),
+        1,
+        "circular reference: S!A1 -> S!B1 -> S!C1; not evaluated",
+        ("--strict",),
+        reported=True,
+    ),
+    Hostile(
+        "external link (reported, never followed)",
+        _external_link,
+        0,
+        "external links not followed",
+        reported=True,
+    ),
+)
+
+
+@pytest.mark.parametrize("case", HOSTILE_FILES, ids=lambda h: h.label)
+def test_hostile_file_through_calc(case: Hostile) -> None:
+    from bad_input_catalogue import hostile_response, hostile_runs
+
+    run = hostile_runs()[case.label]  # all cases run once, in one child process
+    result = run.result
+    assert run.seconds < HOSTILE_SECONDS, f"{case.label}: {run.seconds:.1f} s"
+    assert run.peak_rss_mib < HOSTILE_PEAK_RSS_MIB, f"{case.label}: {run.peak_rss_mib:.0f} MiB"
+    assert result.code == case.exit_code, result.stderr
+    assert "Traceback" not in result.stderr and "internal error" not in result.stderr
+    line = hostile_response(result, case.fragment)
+    assert case.fragment in line, result.stderr
+    assert run.input_unchanged  # the input's bytes never change
+    assert run.wrote_output == case.reported  # a refused file writes nothing

@@ -83,7 +83,7 @@ def _parse_set(text: str) -> tuple[str, Any]:
             i += 1
         start = i + 1
     eq = text.find("=", start)
-    if eq <= 0:
+    if eq <= 0 or not text[:eq].strip():  # no '=', or nothing before it but blanks
         raise ReferenceSyntaxError(
             f"--set {text!r}: write CELL=VALUE, e.g. Inputs!B4=40 or a_defined_name=40"
         )
@@ -131,10 +131,17 @@ _MODE_TEXT = {
 
 def _cmd_calc(args: argparse.Namespace) -> int:
     from udfs.engine.calc import check_output_suffix, read_workbook, write_evaluation
+    from udfs.engine.errors import ReferenceSyntaxError
     from udfs.engine.files import check_output
     from udfs.engine.refs import CellRef
 
-    overrides: dict[CellRef | str, Any] = dict(_parse_set(s) for s in args.set or [])
+    overrides: dict[CellRef | str, Any] = {}
+    for text in args.set or []:
+        target, value = _parse_set(text)
+        if any(target.casefold() == str(t).casefold() for t in overrides):
+            # a second --set of the same target would silently win over the first
+            raise ReferenceSyntaxError(f"--set {target} is given twice")
+        overrides[target] = value
     check_output(args.output, args.force, inputs=[args.input])
     model = read_workbook(args.input)
     check_output_suffix(model, args.output)

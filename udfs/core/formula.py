@@ -110,6 +110,8 @@ class _Reader:
                 inner = self.group(")" if ch == "(" else "]", depth + 1)
                 if self.peek() != (")" if ch == "(" else "]"):
                     raise self.fail("unclosed bracket", opener)
+                if not inner:  # '()' would otherwise count as a formula of mass 0
+                    raise self.fail("empty brackets", opener)
                 self.pos += 1
                 count = self.number()
                 for el, n in inner.items():

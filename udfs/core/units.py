@@ -12,6 +12,7 @@ cached as a linear map ``value * scale + offset``, so hot loops never touch pint
 from __future__ import annotations
 
 import difflib
+import math
 from functools import cache, lru_cache
 
 import numpy as np
@@ -107,6 +108,9 @@ _KNOWN = (
 )
 
 
+_RANGE = "the conversion factor is outside the range of a floating-point number"
+
+
 @cache
 def registry() -> pint.UnitRegistry:
     """The package's single unit registry (built on first use)."""
@@ -148,7 +152,16 @@ def conversion(from_unit: str, to_unit: str, argument: str = "unit") -> tuple[fl
                 f"to {to_unit!r} [{reg.get_dimensionality(dst)}]"
             ),
         ) from exc
-    return float(one - zero), float(zero)
+    except ArithmeticError as exc:  # e.g. 'percent**1e9': the factor overflows a float
+        raise UnitError(
+            argument, from_unit, detail=f"converting {from_unit!r} to {to_unit!r}: {_RANGE}"
+        ) from exc
+    scale, offset = float(one - zero), float(zero)
+    if not (math.isfinite(scale) and math.isfinite(offset)) or scale == 0.0:
+        raise UnitError(
+            argument, from_unit, detail=f"converting {from_unit!r} to {to_unit!r}: {_RANGE}"
+        )
+    return scale, offset
 
 
 def convert(

@@ -107,6 +107,8 @@ def _argument(arg: Any) -> CellValue | list[list[CellValue]]:
     if isinstance(arg, Ranges):
         arg = arg.value  # raises RangeValueError while the engine compiles
     if isinstance(arg, np.ndarray):
+        if arg.shape == (1, 1):
+            return from_engine(arg[0, 0])
         if arg.ndim == 0:
             return from_engine(arg.item())
         grid = arg.reshape(1, -1) if arg.ndim == 1 else arg

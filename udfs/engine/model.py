@@ -4,13 +4,27 @@
 and keeps the compiled model in memory keyed by the SHA-256 of the file's
 content (and the generation of the function registry), so evaluating the same
 workbook again -- with the same or new input values -- skips loading and
-parsing. The first evaluation with a given set of input cells runs the whole
-model; from the second on, the model is reduced to the cells those inputs
-reach (a compiled "pipe") and only they are recomputed. Pipes are replayed by
-:class:`udfs.engine.lean.LeanPipe` (per formula always; per workbook once it
-has given exactly the engine's own results); ``CELLWRIGHT_LEAN=0`` turns that off.
-Sweeps use :meth:`WorkbookModel.scenario_function`, reduced to the cells
-between the varied inputs and the requested outputs.
+parsing.
+
+Two evaluators give the same results:
+
+* **the lean plan** (:class:`udfs.engine.fast.FastPlan`, used whenever it covers
+  the workbook): the engine's parser, formula graphs and function objects, one
+  parse per relative formula, our own dependency order; new inputs recompute
+  only the cells downstream of them (and, in sweeps, upstream of the outputs).
+  It declines what it does not reproduce exactly (circular references, unknown
+  functions, names that are not plain references, ...) and a run in which a
+  function raises falls back, for good, to
+* **the full engine** (``formulas.ExcelModel``, compiled on first need): the
+  first evaluation with a given set of input cells runs the whole model; from
+  the second on, the model is reduced to the cells those inputs reach (a
+  compiled "pipe"). Pipes are replayed by :class:`udfs.engine.lean.LeanPipe`
+  (per formula always; per workbook once it has given exactly the engine's own
+  results); ``CELLWRIGHT_LEAN=0`` turns that off.
+
+``CELLWRIGHT_FAST=0`` turns the lean plan off. Sweeps use
+:meth:`WorkbookModel.scenario_function`, reduced to the cells between the
+varied inputs and the requested outputs.
 
 There is no cache on disk: the engine's compiled objects do not pickle, and
 unpickling from a shared directory would run code from it.
@@ -66,6 +80,7 @@ from .adapter import (
     registered_names,
 )
 from .errors import EngineError, WorkbookError
+from .fast import FastPlan, FastRunError, Key, NotCoveredError, Unit, plain
 from .guard import DEFAULT_LIMITS, Limits, PackageReport, inspect_package
 from .lean import LeanPipe, UnsupportedPipeError, leanify_cells
 from .package import Package
@@ -88,6 +103,9 @@ MAX_REPORTED_ERRORS = 20
 _MISSING_BASEDIR = "/nonexistent/cellwright-engine-no-external-files"
 #: Replay compiled pipes with :class:`udfs.engine.lean.LeanPipe` (CELLWRIGHT_LEAN=0 turns off).
 LEAN = os.environ.get("CELLWRIGHT_LEAN", "1") != "0"
+#: Evaluate with :class:`udfs.engine.fast.FastPlan` when it covers the workbook
+#: (CELLWRIGHT_FAST=0 turns it off: the full engine always).
+FAST = os.environ.get("CELLWRIGHT_FAST", "1") != "0"
 _FUNCTION_CALL = re.compile(r"(?<![\w.])([A-Za-z_][\w.]*)\s*\(")
 _STRING = re.compile(r'"(?:[^"]|"")*"')
 
@@ -267,6 +285,7 @@ class WorkbookModel:
         self._uncompilable: set[tuple[tuple[str, ...], tuple[str, ...]]] = set()
         self._layouts: dict[str, list[tuple[CellRef, int, int]]] = {}
         self._seen: set[tuple[str, ...]] = set()
+        self._fast_seen: set[tuple[Key, ...]] = set()
         self._derived: OrderedDict[tuple[tuple[CellRef, Override], ...], WorkbookModel] = (
             OrderedDict()
         )
@@ -274,12 +293,32 @@ class WorkbookModel:
             Diagnostic("note", None, n) for n in self.report.notes
         ]
         self._cycle_diagnostics: list[Diagnostic] = []
-        self._xl = self._compile()
+        self._xl_model: Any = None
+        self._fast: FastPlan | None = None
+        self._fast_cache: dict[CellRef, CellValue] | None = None
+        self._unit_cells: dict[int, list[tuple[CellRef, Key]]] = {}
+        self._book: Any = self._load_book()
+        if FAST:
+            self._fast = self._plan(self._book)
+        if self._fast is None:
+            self._xl_model = self._compile(self._book)
         self.named_cells = self._read_names()
         self.build_seconds = time.perf_counter() - t0
 
     # ------------------------------------------------------------ compiling
-    def _compile(self) -> Any:
+    @property
+    def _xl(self) -> Any:
+        """The full engine's model (compiled on first use when the fast plan covers the book)."""
+        if self._xl_model is None:
+            self._xl_model = self._compile(self._book)
+        return self._xl_model
+
+    @property
+    def fast(self) -> bool:
+        """True when evaluations run through the lean :class:`FastPlan`."""
+        return self._fast is not None
+
+    def _load_book(self) -> Any:
         with _quiet():
             try:
                 book = load_workbook(io.BytesIO(self.data), keep_links=False)
@@ -295,6 +334,31 @@ class WorkbookModel:
                 if isinstance(value, str):
                     cell.data_type = "s"  # text, even if it starts with "="
             self._scan_book(book)
+        return book
+
+    def _plan(self, book: Any) -> FastPlan | None:
+        """The lean plan of the book, or None when the full engine is needed."""
+        try:
+            with _quiet():
+                plan = FastPlan(book)
+        except NotCoveredError:
+            return None
+        except RecursionError:
+            return None
+        for unit in plan.book_order:
+            self._formula_nodes[unit.node] = (unit.sheet, unit.r1, unit.c1, unit.r2, unit.c2)
+            title = self._titles[unit.sheet]
+            cells = []
+            for key, _, _ in unit.cells():
+                self._formula_at[key] = unit.node
+                cells.append((CellRef(title, key[1], key[2]), key))
+            self._unit_cells[unit.order] = cells
+        return plan
+
+    def _compile(self, book: Any) -> Any:
+        self._formula_nodes.clear()
+        self._formula_at.clear()
+        with _quiet():
             xl = _SealedModel()
             xl.basedir = _MISSING_BASEDIR
             xl.books[INTERNAL_BOOK] = {BOOK: book}
@@ -555,6 +619,13 @@ class WorkbookModel:
         """
         t_refs = [self.resolve(t) for t in targets]
         o_refs = [self.resolve(o) for o in outputs]
+        if self._fast is not None:
+
+            def slow_fast(*values: Override) -> list[CellValue]:
+                ev = self.evaluate(dict(zip(t_refs, values, strict=True)), compile=True)
+                return [ev.value(r) for r in o_refs]
+
+            return self._fast_scenario(t_refs, o_refs, slow_fast)
         fast, structural = self._split(dict.fromkeys(t_refs, 0.0))
         keys = tuple(sorted(fast))
         order = [next(k for k, (r, _) in fast.items() if r == ref) for ref in t_refs]
@@ -600,31 +671,37 @@ class WorkbookModel:
         structural: dict[CellRef, Override] = {}
         pred = self._xl.dsp.dmap.pred
         for key, value in overrides.items():
-            ref = self.resolve(key)
-            if isinstance(value, float) and not np.isfinite(value):
-                raise WorkbookError(f"{ref.address}: a cell cannot hold {value}")
-            if not isinstance(value, (bool, int, float, str)):
-                raise WorkbookError(
-                    f"{ref.address}: value must be a number, TRUE/FALSE or text "
-                    f"(got {type(value).__name__})"
-                )
+            ref = self._check_override(key, value)
             loc = (ref.sheet.upper(), ref.row, ref.col)
-            if loc in self._formula_at:
-                _, r1, c1, r2, c2 = self._formula_nodes[self._formula_at[loc]]
-                where = (
-                    f"is part of the array formula {col_letters(c1)}{r1}:{col_letters(c2)}{r2}"
-                    if (r1, c1) != (r2, c2)
-                    else "holds a formula"
-                )
-                raise WorkbookError(
-                    f"{ref.address} {where}; --set changes input cells (values), not formulas"
-                )
             node = self._node(loc[0], ref.row, ref.col)
             if node in self._xl.dsp.data_nodes and self._is_input_node(node, pred):
                 fast[node] = (ref, value)
             else:
                 structural[ref] = value
         return fast, structural
+
+    def _check_override(self, key: CellRef | str, value: Any) -> CellRef:
+        """The cell an override sets; refuses formula cells and values a cell cannot hold."""
+        ref = self.resolve(key)
+        if isinstance(value, float) and not np.isfinite(value):
+            raise WorkbookError(f"{ref.address}: a cell cannot hold {value}")
+        if not isinstance(value, (bool, int, float, str)):
+            raise WorkbookError(
+                f"{ref.address}: value must be a number, TRUE/FALSE or text "
+                f"(got {type(value).__name__})"
+            )
+        loc = (ref.sheet.upper(), ref.row, ref.col)
+        if loc in self._formula_at:
+            _, r1, c1, r2, c2 = self._formula_nodes[self._formula_at[loc]]
+            where = (
+                f"is part of the array formula {col_letters(c1)}{r1}:{col_letters(c2)}{r2}"
+                if (r1, c1) != (r2, c2)
+                else "holds a formula"
+            )
+            raise WorkbookError(
+                f"{ref.address} {where}; --set changes input cells (values), not formulas"
+            )
+        return ref
 
     def _is_input_node(self, node: str, pred: Mapping[Any, Any]) -> bool:
         """No formula computes ``node``: its only links in are the engine's inverse
@@ -668,6 +745,14 @@ class WorkbookModel:
         happens on the second evaluation with the same input cells.
         """
         t0 = time.perf_counter()
+        if self._fast is not None:
+            try:
+                ev = self._evaluate_fast(overrides or {}, t0)
+            except FastRunError:
+                self._fast = None  # a function raised: the full engine from now on
+                ev = None
+            if ev is not None:
+                return ev
         fast, structural = self._split(overrides or {})
         if structural:
             derived = self._derived_model(structural)
@@ -703,6 +788,104 @@ class WorkbookModel:
         diags += self._error_diagnostics(values)
         return Evaluation(self, values, inputs, diags, time.perf_counter() - t0, compiled)
 
+    def _fast_inputs(
+        self, overrides: Mapping[CellRef | str, Override]
+    ) -> dict[Key, tuple[CellRef, Override]] | None:
+        """Checked overrides by cell key; None when only the full engine gives the
+        exact result (a float with more than 15 decimals set into an empty cell,
+        which the engine compiles as a rounded constant)."""
+        assert self._fast is not None
+        out: dict[Key, tuple[CellRef, Override]] = {}
+        for key, value in overrides.items():
+            ref = self._check_override(key, value)
+            loc = (ref.sheet.upper(), ref.row, ref.col)
+            if _rounds_differently(value) and loc not in self._fast.constants:
+                return None
+            out[loc] = (ref, value)
+        return out
+
+    def _fast_values(
+        self, cells: Mapping[Key, Any], units: list[Unit] | None
+    ) -> dict[CellRef, CellValue]:
+        """Formula cells' values from the plan's cells (all, or only ``units`` on the default)."""
+        assert self._fast is not None
+        if units is None and self._fast_cache is not None:
+            return dict(self._fast_cache)  # the default results, already converted
+        if self._fast_cache is None or units is None:
+            values: dict[CellRef, CellValue] = {}
+            for unit in self._fast.book_order:
+                for ref, key in self._unit_cells[unit.order]:
+                    values[ref] = plain(cells[key][0, 0])
+            if units is None and self._fast_cache is None:
+                self._fast_cache = values
+            return dict(values)
+        values = dict(self._fast_cache)
+        for unit in units:
+            for ref, key in self._unit_cells[unit.order]:
+                values[ref] = plain(cells[key][0, 0])
+        return values
+
+    def _evaluate_fast(
+        self, overrides: Mapping[CellRef | str, Override], t0: float
+    ) -> Evaluation | None:
+        plan = self._fast
+        assert plan is not None
+        given = self._fast_inputs(overrides)
+        if given is None:
+            return None
+        keys = tuple(sorted(given))
+        compiled = keys in self._fast_seen if keys else False
+        if not keys:
+            values = self._fast_values(plan.evaluate({}), None)
+        else:
+            if self._fast_cache is None:
+                self._fast_values(plan.evaluate({}), None)
+            cells = plan.runner(keys, None)([given[k][1] for k in keys])
+            values = self._fast_values(cells, plan.affected(keys, None))
+            self._fast_seen.add(keys)
+        inputs: dict[CellRef, CellValue] = {ref: v for ref, v in given.values()}
+        values.update(inputs)
+        diags = list(self.static_diagnostics) + list(self._cycle_diagnostics)
+        diags += self._error_diagnostics(values)
+        return Evaluation(self, values, inputs, diags, time.perf_counter() - t0, compiled)
+
+    def _fast_scenario(
+        self, t_refs: list[CellRef], o_refs: list[CellRef], slow: Callable[..., list[CellValue]]
+    ) -> Callable[..., list[CellValue]]:
+        plan = self._fast
+        assert plan is not None
+        for ref in t_refs:
+            self._check_override(ref, 0.0)
+        t_keys = [(r.sheet.upper(), r.row, r.col) for r in t_refs]
+        o_keys = [(r.sheet.upper(), r.row, r.col) for r in o_refs]
+        outs = [k for k in o_keys if k in plan.owner]
+        runner = plan.runner(t_keys, outs)
+        given_at = {k: i for i, k in enumerate(t_keys)}
+        empty = [k not in plan.constants for k in t_keys]
+        constants = [self.constant(r) for r in o_refs]
+
+        def run(*values: Override) -> list[CellValue]:
+            if self._fast is None or any(
+                e and _rounds_differently(v) for e, v in zip(empty, values, strict=True)
+            ):
+                return slow(*values)
+            try:
+                cells = runner(values)
+            except FastRunError:
+                self._fast = None
+                return slow(*values)
+            out: list[CellValue] = []
+            for k, const in zip(o_keys, constants, strict=True):
+                if k in plan.owner:
+                    out.append(plain(cells[k][0, 0]))
+                elif k in given_at:
+                    out.append(values[given_at[k]])
+                else:
+                    out.append(const)
+            return out
+
+        return run
+
     def _error_diagnostics(self, values: Mapping[CellRef, CellValue]) -> list[Diagnostic]:
         out: list[Diagnostic] = []
         unsupported = {d.ref for d in self.static_diagnostics if d.kind == "unsupported"}
@@ -728,6 +911,11 @@ class WorkbookModel:
                 if hits:
                     return f"{fn}: {hits[-1]}"
         return f"{err.code} (formula ={text.lstrip('=')})" if text else err.code
+
+
+def _rounds_differently(value: Any) -> bool:
+    """A float the engine would store rounded to 15 decimals when compiled as a constant."""
+    return isinstance(value, float) and round(value, 15) != value
 
 
 _CACHE: OrderedDict[str, WorkbookModel] = OrderedDict()

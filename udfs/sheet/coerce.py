@@ -194,6 +194,8 @@ def _fast_float_range(value: Any) -> NDArray[np.float64] | None:
             return None
         if arr.ndim not in (1, 2) or arr.size == 0 or _has_bool(arr, value):
             return None
+        if np.isnan(arr).any():  # None (an empty cell) also converts to NaN: go element-wise
+            return None
     if arr.ndim == 1:
         arr = arr.reshape(1, -1)
     elif arr.ndim == 0:

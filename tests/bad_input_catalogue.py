@@ -1,0 +1,487 @@
+"""Generate docs/bad-inputs.md by running every case of the bad-input tables.
+
+The tables are tests/bad_inputs.py (BAD_INPUTS, RANGE_BAD_INPUTS,
+CLI_BAD_INPUTS) and HOSTILE_FILES in tests/test_hostile.py. Every response in
+the document is what the code returned when the document was generated; the
+tests named beside each row assert it, and tests/test_bad_input_catalogue.py
+fails when the committed document differs from a fresh run (stale).
+
+Usage (from the repository root)::
+
+    python tests/bad_input_catalogue.py           # rewrite docs/bad-inputs.md
+    python tests/bad_input_catalogue.py --check   # exit 1 if it is stale
+
+>>> show_value(None), show_value(float("nan")), show_value(True)
+('(empty)', 'NaN', 'TRUE')
+"""
+
+from __future__ import annotations
+
+import contextlib
+import functools
+import hashlib
+import io
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+import time
+import warnings
+from collections.abc import Iterable, Sequence
+from pathlib import Path
+from typing import Any, NamedTuple
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+DOC = ROOT / "docs" / "bad-inputs.md"
+if str(HERE) not in sys.path:  # run as a script: the tables live beside it
+    sys.path.insert(0, str(HERE))
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+from bad_inputs import (  # noqa: E402
+    BAD_INPUTS,
+    CLI_BAD_INPUTS,
+    RANGE_BAD_INPUTS,
+    BadInput,
+    CliBadInput,
+    RangeBadInput,
+)
+
+from udfs.sheet.errors import SheetError  # noqa: E402
+
+__all__ = [
+    "CliResult",
+    "Row",
+    "build_book",
+    "catalogue_rows",
+    "cli_response",
+    "hostile_response",
+    "prepare_cli",
+    "range_response",
+    "render",
+    "run_cli",
+    "sheet_response",
+    "show_value",
+]
+
+SHEET_TEST = "tests/test_sheet_bad_inputs.py::test_bad_input_gives_its_error"
+RANGE_TEST = "tests/test_bad_input_catalogue.py::test_range_bad_input"
+CLI_TEST = "tests/test_cli.py::test_cli_bad_input_table"
+HOSTILE_TEST = "tests/test_hostile.py::test_hostile_file_through_calc"
+
+
+class Row(NamedTuple):
+    """One line of the catalogue."""
+
+    section: str
+    target: str  # function or command
+    value: str  # the bad value, as shown
+    why: str
+    response: str
+    test: str
+
+
+# ---------------------------------------------------------------------- showing values
+
+
+def show_value(x: Any) -> str:
+    """A cell value as the catalogue shows it."""
+    if x is None:
+        return "(empty)"
+    if isinstance(x, SheetError):
+        return f"error value {str(x)!r}"
+    if isinstance(x, bool):
+        return "TRUE" if x else "FALSE"
+    if isinstance(x, float):
+        if math.isnan(x):
+            return "NaN"
+        if math.isinf(x):
+            return "+inf" if x > 0 else "-inf"
+        return f"{x:g}"
+    if isinstance(x, list) and type(x) is not list:  # Huge: its own short repr
+        return repr(x)
+    if isinstance(x, list):
+        return "[" + ", ".join(show_value(v) for v in x) + "]"
+    return repr(x)
+
+
+def _args_text(args: Sequence[Any], shown: str) -> str:
+    return shown or "(" + ", ".join(show_value(a) for a in args) + ")"
+
+
+# ---------------------------------------------------------------------- sheet functions
+
+
+def sheet_response(row: BadInput) -> str:
+    """What the function returns for the row (its error text, or a description)."""
+    from udfs.sheet.registry import FUNCTIONS
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # numpy overflow on the fast path
+        out = FUNCTIONS[row.function](*row.args)
+    if isinstance(out, list):
+        return f"a {len(out)}x{len(out[0])} spilled range (expected one error)"
+    return str(out)
+
+
+def range_response(row: RangeBadInput) -> tuple[str, Any]:
+    """A description of the spilled result and the result itself."""
+    from udfs.sheet.registry import FUNCTIONS
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        out = FUNCTIONS[row.function](*row.args)
+    if not isinstance(out, list):
+        return f"{out} (one value, expected a spilled range)", out
+    i, j = row.cell
+    width = len(out[0])
+    record = width > 1 and all(x == out[i][0] for x in out[i])  # a record spills per row
+    skip = {(i, c) for c in range(width)} if record else {(i, j)}
+    others = sum(
+        1
+        for r, cells in enumerate(out)
+        for c, x in enumerate(cells)
+        if (r, c) not in skip and type(x) is float and math.isfinite(x)
+    )
+    where = f"row {i}" if record else f"[{i}][{j}]"
+    total = len(out) * width - len(skip)
+    return (
+        f"{len(out)}x{width} result; {where} = {out[i][j]}; "
+        f"{others:,} of the other {total:,} cells are numbers",
+        out,
+    )
+
+
+# ---------------------------------------------------------------------- the command line
+
+
+class CliResult(NamedTuple):
+    code: int
+    stdout: str
+    stderr: str
+
+
+def run_cli(argv: Sequence[str]) -> CliResult:
+    """``cellwright ARGV`` in this process (the console script's code path)."""
+    from udfs.cli import main
+
+    out, err = io.StringIO(), io.StringIO()
+    with (
+        contextlib.redirect_stdout(out),
+        contextlib.redirect_stderr(err),
+        warnings.catch_warnings(),
+    ):
+        warnings.simplefilter("ignore", RuntimeWarning)
+        try:
+            code = main(list(argv))
+        except SystemExit as exc:  # argparse usage errors
+            code = int(exc.code or 0)
+    return CliResult(code, out.getvalue(), err.getvalue())
+
+
+def _lines(text: str) -> list[str]:
+    """Lines of stderr without the progress bar's redraws."""
+    lines = []
+    for line in text.replace("\r", "\n").splitlines():
+        if line.strip() and "ETA" not in line:
+            lines.append(line.strip())
+    return lines
+
+
+def cli_response(result: CliResult) -> str:
+    """The one-line reason (the last line of stderr, progress bar aside)."""
+    lines = _lines(result.stderr)
+    return lines[-1] if lines else "(nothing on stderr)"
+
+
+def hostile_response(result: CliResult, fragment: str) -> str:
+    """The stderr line that reports the problem (else the last line)."""
+    lines = _lines(result.stderr)
+    hits = [x for x in lines if fragment in x]
+    return hits[0] if hits else (lines[-1] if lines else "(nothing on stderr)")
+
+
+class HostileRun(NamedTuple):
+    """One hostile workbook through ``cellwright calc`` in a child process."""
+
+    result: CliResult
+    seconds: float  # wall time of the command alone
+    peak_rss_mib: float  # the child process's peak resident memory after this run
+    input_unchanged: bool
+    wrote_output: bool
+    directory: str
+
+
+def _child_run_hostile() -> None:
+    """Child mode: run the jobs given on stdin, report JSON on the real stdout."""
+    import resource
+
+    import udfs.engine.calc
+    import udfs.engine.model  # noqa: F401
+
+    jobs = json.loads(sys.stdin.read())
+    report = []
+    for argv in jobs:
+        t0 = time.perf_counter()
+        r = run_cli(argv)
+        seconds = time.perf_counter() - t0
+        rss_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss  # KiB on Linux
+        report.append([r.code, r.stdout, r.stderr, seconds, rss_kib / 1024])
+    print(json.dumps(report))
+
+
+@functools.cache
+def hostile_runs() -> dict[str, HostileRun]:
+    """Every HOSTILE_FILES case through ``cellwright calc``, run once per process.
+
+    The files are built here and run one after the other in ONE child process,
+    so that its peak resident memory (C libraries included) bounds each run:
+    the peak after run k is at least the peak during run k.
+    """
+    from test_hostile import HOSTILE_FILES
+
+    out: dict[str, HostileRun] = {}
+    with tempfile.TemporaryDirectory() as scratch:
+        jobs, digests = [], []
+        for k, h in enumerate(HOSTILE_FILES):
+            d = Path(scratch) / f"hostile{k}"
+            d.mkdir()
+            src = d / "hostile.xlsx"
+            data = h.build()
+            src.write_bytes(data)
+            digests.append(hashlib.sha256(data).hexdigest())
+            del data
+            jobs.append(["calc", str(src), "-o", str(d / "out.xlsx"), *h.flags])
+        env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(HERE)]))
+        child = subprocess.run(
+            [sys.executable, __file__, "--run-hostile"],
+            input=json.dumps(jobs),
+            capture_output=True,
+            text=True,
+            timeout=900,
+            env=env,
+            check=True,
+        )
+        report = json.loads(child.stdout.strip().splitlines()[-1])
+        for k, (h, job, rep) in enumerate(zip(HOSTILE_FILES, jobs, report, strict=True)):
+            d = Path(job[1]).parent
+            src = Path(job[1])
+            out[h.label] = HostileRun(
+                CliResult(rep[0], rep[1], rep[2]),
+                rep[3],
+                rep[4],
+                hashlib.sha256(src.read_bytes()).hexdigest() == digests[k],
+                (d / "out.xlsx").exists(),
+                str(d),
+            )
+    return out
+
+
+def build_book(directory: Path) -> Path:
+    """A small valid workbook: Inputs!B4 (``load``), B5, and formulas in Calc."""
+    import openpyxl
+    from openpyxl.workbook.defined_name import DefinedName
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    assert ws is not None
+    ws.title = "Inputs"
+    ws["B4"] = 40.0
+    ws["B5"] = 3.0
+    calc = wb.create_sheet("Calc")
+    calc["A1"] = "=Inputs!B4*Inputs!B5"
+    calc["A2"] = "=SUM(Inputs!B4:B5)"
+    calc["A3"] = '=CW_MOLAR_MASS("H2O")*Inputs!B5'
+    for name, ref in (("load", "Inputs!$B$4"), ("product", "Calc!$A$1"), ("total", "Calc!$A$2")):
+        wb.defined_names[name] = DefinedName(name, attr_text=ref)
+    path = directory / "in.xlsx"
+    wb.save(path)
+    return path
+
+
+def prepare_cli(row: CliBadInput, directory: Path) -> list[str]:
+    """Set up the scratch directory for ``row`` and return its argv."""
+    book = build_book(directory)
+    argv = [a.format(book=book, out=directory / "out", tmp=directory) for a in row.argv]
+    if row.prepare == "dir":
+        (directory / "dir.xlsx").mkdir()
+    elif row.prepare == "text":
+        (directory / "text.xlsx").write_text("plain text, not a workbook")
+    elif row.prepare == "empty":
+        (directory / "empty.xlsx").write_bytes(b"")
+    elif row.prepare == "exists":
+        target = next(a for a, raw in zip(argv, row.argv, strict=True) if "{out}" in raw)
+        Path(target).write_bytes(b"old contents")
+    elif row.prepare:
+        raise ValueError(f"unknown set-up step {row.prepare!r}")
+    return argv
+
+
+def _normalise(text: str, directory: Path) -> str:
+    return text.replace(str(directory), "<tmp>")
+
+
+# ---------------------------------------------------------------------- the document
+
+
+def _cli_id(row: CliBadInput) -> str:
+    return f"{row.command}-{row.why}"
+
+
+def catalogue_rows(scratch: Path | None = None) -> list[Row]:
+    """Run every case and collect the catalogue's rows."""
+    rows: list[Row] = []
+    for b in BAD_INPUTS:
+        rows.append(
+            Row(
+                "Spreadsheet functions, single cells",
+                b.function,
+                _args_text(b.args, b.shown),
+                b.why,
+                sheet_response(b),
+                f"{SHEET_TEST}[{b.function}-{b.why}]",
+            )
+        )
+    for r in RANGE_BAD_INPUTS:
+        rows.append(
+            Row(
+                "Spreadsheet functions, ranges",
+                r.function,
+                _args_text(r.args, r.shown),
+                r.why,
+                range_response(r)[0],
+                f"{RANGE_TEST}[{r.function}-{r.why}]",
+            )
+        )
+    with contextlib.ExitStack() as stack:
+        base = (
+            scratch
+            if scratch is not None
+            else Path(stack.enter_context(tempfile.TemporaryDirectory()))
+        )
+        for k, c in enumerate(CLI_BAD_INPUTS):
+            d = base / f"cli{k}"
+            d.mkdir()
+            result = run_cli(prepare_cli(c, d))
+            rows.append(
+                Row(
+                    "Command line",
+                    f"cellwright {c.command}",
+                    "`" + " ".join(c.argv) + "`",
+                    c.why,
+                    f"exit {result.code}: " + _normalise(cli_response(result), d),
+                    f"{CLI_TEST}[{_cli_id(c)}]",
+                )
+            )
+    from test_hostile import HOSTILE_FILES
+
+    runs = hostile_runs()
+    for h in HOSTILE_FILES:
+        run = runs[h.label]
+        rows.append(
+            Row(
+                "Hostile workbooks (cellwright calc)",
+                "cellwright calc" + "".join(f" {f}" for f in h.flags),
+                h.label,
+                "hostile file",
+                f"exit {run.result.code}: "
+                + _normalise(hostile_response(run.result, h.fragment), Path(run.directory)),
+                f"{HOSTILE_TEST}[{h.label}]",
+            )
+        )
+    return rows
+
+
+def _cell(text: str) -> str:
+    return text.replace("|", "\\|").replace("\n", " ")
+
+
+def render(rows: Iterable[Row]) -> str:
+    """The Markdown document."""
+    from test_hostile import HOSTILE_PEAK_RSS_MIB, HOSTILE_SECONDS
+
+    from udfs.engine import guard
+
+    rows = list(rows)
+    sections: dict[str, list[Row]] = {}
+    for r in rows:
+        sections.setdefault(r.section, []).append(r)
+    out = [
+        "# Bad inputs and what cellwright says about them",
+        "",
+        "<!-- Generated by `python tests/bad_input_catalogue.py`; do not edit by hand.",
+        "     tests/test_bad_input_catalogue.py fails when this file is stale. -->",
+        "",
+        "Every row was run when this file was generated: the response is what the code",
+        "returned (spreadsheet error text, or the command's exit code and its one-line",
+        "reason on stderr), and the test named in the last column asserts it. Paths of",
+        "the scratch directory are shown as `<tmp>`. In command lines `{book}` is a small",
+        "valid workbook (`build_book` in tests/bad_input_catalogue.py), `{out}` a fresh",
+        "output path without its suffix and `{tmp}` the scratch directory.",
+        "",
+        f"{len(rows)} bad inputs in all: "
+        + ", ".join(f"{len(v)} {k.lower()}" for k, v in sections.items())
+        + ".",
+        "",
+        "Conventions (see udfs/sheet/coerce.py): numbers outside their range, NaN and",
+        "infinity give `#NUM!`; text, booleans, empty required cells, unknown units and",
+        "shapes that cannot broadcast give `#VALUE!`; unknown names give `#N/A` with",
+        "suggestions; an error value arriving from another cell is passed on unchanged.",
+        "In a range, a bad element gets its own error and the other elements are computed.",
+        "",
+        "## Bounds for hostile workbooks",
+        "",
+        f"Each hostile workbook must be refused or reported within {HOSTILE_SECONDS:g} s by",
+        "`cellwright calc`, and the process running it must stay under",
+        f"{HOSTILE_PEAK_RSS_MIB} MiB of peak resident memory (interpreter, libraries and C",
+        "allocations included); these are safety bounds, asserted by",
+        f"`{HOSTILE_TEST}`, not speed targets. The limits that refuse a file",
+        "(udfs/engine/guard.py) are: file "
+        f"{guard.MAX_INPUT_BYTES // 2**20} MiB, {guard.MAX_PARTS:,} zip parts, "
+        f"{guard.MAX_PART_BYTES // 2**20} MiB per part and {guard.MAX_TOTAL_BYTES // 2**20} MiB "
+        f"in all unpacked, compression ratio {guard.MAX_RATIO:g}:1 for parts over 1 MiB, "
+        f"{guard.MAX_CELLS:,} cells, {guard.MAX_FORMULA_CELLS:,} formula cells, "
+        f"{guard.MAX_ROWS:,} rows, {guard.MAX_SHARED_STRINGS:,} shared strings, "
+        f"{guard.MAX_DEFINED_NAMES:,} defined names, formulas of "
+        f"{guard.MAX_FORMULA_LENGTH:,} characters and {guard.MAX_NESTING} nested calls "
+        "(Excel's own limits); any DTD or entity declaration is refused; external links and "
+        "macros are reported, never followed or run; circular references are reported and "
+        "not evaluated.",
+        "",
+    ]
+    for title, items in sections.items():
+        out += [f"## {title}", "", "| # | input | bad value | case | response | test |"]
+        out.append("|---|---|---|---|---|---|")
+        for k, r in enumerate(items, start=1):
+            value = r.value if r.value.startswith("`") else f"`{r.value}`"
+            out.append(
+                f"| {k} | `{_cell(r.target)}` | {_cell(value)} | {_cell(r.why)} | "
+                f"{_cell(r.response)} | `{_cell(r.test)}` |"
+            )
+        out.append("")
+    return "\n".join(out)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Write (or with ``--check`` compare) docs/bad-inputs.md."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    if "--run-hostile" in args:
+        _child_run_hostile()
+        return 0
+    text = render(catalogue_rows())
+    if "--check" in args:
+        if not DOC.exists() or DOC.read_text(encoding="utf-8") != text:
+            print(f"{DOC} is stale; run: python tests/bad_input_catalogue.py", file=sys.stderr)
+            return 1
+        print(f"{DOC} is up to date")
+        return 0
+    DOC.write_text(text, encoding="utf-8")
+    print(f"wrote {DOC} ({text.count(chr(10))} lines)")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
