@@ -620,11 +620,6 @@ def test_input_bytes_never_change_on_success(capsys, book, tmp_path, command):
     assert args[-1].exists()
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="engine bug (udfs/engine/sweep.py, not ours to change): a core sweep writes "
-    "inf and 0 for an overflowing scenario instead of marking it as an error",
-)
 def test_core_sweep_marks_non_finite_results(capsys, tmp_path):
     out = tmp_path / "np.csv"
     code, _, err = call(
@@ -637,11 +632,6 @@ def test_core_sweep_marks_non_finite_results(capsys, tmp_path):
             assert value.lower() not in ("inf", "-inf", "nan"), rows[0]
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="engine bug (udfs/engine/sweep.py grid_values, not ours to change): a step so "
-    "small that (stop - start) / step overflows raises OverflowError (exit 3, internal error)",
-)
 def test_vary_with_a_vanishing_step_is_refused(capsys, tmp_path):
     out = tmp_path / "s.csv"
     code, _, err = call(
@@ -650,12 +640,6 @@ def test_vary_with_a_vanishing_step_is_refused(capsys, tmp_path):
     assert code == 1 and "values on one axis" in err, err
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="engine bug (udfs/engine/sweep.py grid_values, not ours to change): when "
-    "(stop - start) * step underflows to 0 the direction check passes, the range has no "
-    "values and an empty table is written with exit 0",
-)
 def test_vary_with_an_underflowing_range_is_refused(capsys, tmp_path):
     out = tmp_path / "s.csv"
     code, _, err = call(

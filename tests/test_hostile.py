@@ -525,3 +525,33 @@ def test_hostile_file_through_calc(case: Hostile) -> None:
     assert case.fragment in line, result.stderr
     assert run.input_unchanged  # the input's bytes never change
     assert run.wrote_output == case.reported  # a refused file writes nothing
+
+
+def test_round_with_absurd_digits_is_an_error_not_a_hang(tmp_path):
+    # ROUND(x, 1E+300) would make the formulas package compute 10**(10**300) and hang;
+    # the engine answers #NUM! at once (MAX_ROUND_DIGITS) and still rounds normal cases
+    # (Excel's ROUND semantics, common practice).
+    import io
+
+    import openpyxl
+
+    from udfs.engine import load_model
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "S"
+    ws["A1"] = 2.345
+    ws["A2"] = 1e300
+    ws["B1"] = "=ROUND(A1,1E+300)"
+    ws["B2"] = "=ROUND(A1,2)"
+    ws["B3"] = "=ROUNDUP(A1,1)"
+    ws["B4"] = "=ROUNDDOWN(-A1,1)"
+    ws["B5"] = "=IFERROR(ROUND(A1,A2),-1)"
+    buf = io.BytesIO()
+    wb.save(buf)
+    ev = load_model(buf.getvalue(), "round.xlsx").evaluate({})
+    assert getattr(ev.value("S!B1"), "code", str(ev.value("S!B1"))) == "#NUM!"
+    assert ev.value("S!B2") == pytest.approx(2.35)
+    assert ev.value("S!B3") == pytest.approx(2.4)
+    assert ev.value("S!B4") == pytest.approx(-2.3)
+    assert ev.value("S!B5") == -1

@@ -30,6 +30,7 @@ engine under its spreadsheet name, wrapped in :class:`SheetFunctionAdapter`:
 
 from __future__ import annotations
 
+import functools
 import math
 import threading
 from collections import OrderedDict
@@ -206,6 +207,34 @@ def sheet_functions() -> dict[str, Callable[..., Any]]:
     except ImportError:
         return {}
     return dict(getattr(registry, "FUNCTIONS", {}))
+
+
+#: Excel's ROUND family with a digits argument past this is refused as #NUM!; the
+#: `formulas` package computes 10**digits and would hang on ROUND(x, 1E+300).
+MAX_ROUND_DIGITS = 1000
+
+
+def _bound_round_digits() -> None:
+    """Replace ROUND, ROUNDUP and ROUNDDOWN by versions that refuse absurd digits
+    (same results otherwise: the package's own element-wise function is called)."""
+    from formulas.functions import math as xl_math
+    from formulas.functions import wrap_ufunc
+
+    def bounded(inner: Callable[..., Any]) -> Callable[..., Any]:
+        def element(x: Any, d: Any) -> Any:
+            if not abs(float(d)) <= MAX_ROUND_DIGITS:
+                return Error.errors["#NUM!"]
+            return inner(x, d)
+
+        return wrap_ufunc(element)
+
+    table = get_functions()
+    table["ROUND"] = bounded(xl_math.xround)
+    table["ROUNDDOWN"] = bounded(functools.partial(xl_math.xround, func=math.floor))
+    table["ROUNDUP"] = bounded(functools.partial(xl_math.xround, func=math.ceil))
+
+
+_bound_round_digits()
 
 
 def register(functions: Mapping[str, Callable[..., Any]]) -> int:

@@ -110,15 +110,17 @@ def grid_values(start: float, stop: float, step: float, what: str = "range") -> 
     """start, start+step, ... up to stop (included when a step lands on it, 1e-9 tolerance)."""
     if step == 0:
         raise ReferenceSyntaxError(f"{what}: the step must not be 0")
-    if (stop - start) * step < 0:
+    if (step > 0 and stop < start) or (step < 0 and stop > start):
         raise ReferenceSyntaxError(
             f"{what}: a step of {step:g} never goes from {start:g} to {stop:g}"
         )
-    n = math.floor((stop - start) / step + 1e-9) + 1
-    if n > MAX_POINTS_PER_AXIS:
+    span = (stop - start) / step  # >= 0; inf when the step is vanishingly small
+    if not span + 1.0 <= MAX_POINTS_PER_AXIS:
+        shown = f"{span + 1:,.0f}" if math.isfinite(span) else "too many"
         raise ReferenceSyntaxError(
-            f"{what}: {n:,} values on one axis (limit {MAX_POINTS_PER_AXIS:,})"
+            f"{what}: {shown} values on one axis (limit {MAX_POINTS_PER_AXIS:,})"
         )
+    n = math.floor(span + 1e-9) + 1
     return tuple(float(f"{start + i * step:.12g}") for i in range(n))
 
 
@@ -284,14 +286,24 @@ def sweep_core(varies: Sequence[Vary], progress: Progress | None = None) -> Swee
     finally:
         bar.close()
     columns: dict[str, Any] = {v.target: arr for v, arr in zip(varies, flat, strict=True)}
+    notes: list[str] = []
     for name in CORE_OUTPUTS:
-        columns[name] = np.broadcast_to(np.asarray(getattr(design, name), dtype=float), (n,))
+        col = np.broadcast_to(np.asarray(getattr(design, name), dtype=float), (n,))
+        bad = ~np.isfinite(col)
+        if bad.any():  # overflow in an extreme scenario: an error value, never inf or nan
+            marked = col.astype(object)
+            marked[bad] = "#NUM!"
+            columns[name] = marked
+            notes.append(f"{name}: {int(bad.sum())} scenario(s) out of range, shown as #NUM!")
+        else:
+            columns[name] = col
     return SweepTable(
         [v.target for v in varies],
         list(CORE_OUTPUTS),
         columns,
         "core sizing model (udfs.core.sizing) with the demo spec as the base (demo data)",
         len(varies[0].values),
+        notes,
     )
 
 
