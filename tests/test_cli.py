@@ -647,3 +647,14 @@ def test_vary_with_an_underflowing_range_is_refused(capsys, tmp_path):
     )
     assert code == 1 and "never goes from" in err, err
     assert not out.exists()
+
+
+def test_demo_twice_in_one_folder_keeps_the_first_file(tmp_path, monkeypatch):
+    # the README's first command may be run again: the second demo goes to a new
+    # file and the first one is never overwritten (no --force given)
+    monkeypatch.chdir(tmp_path)
+    assert main(["demo"]) == 0
+    first = (tmp_path / "cellwright-demo.xlsx").read_bytes()
+    assert main(["demo"]) == 0
+    assert (tmp_path / "cellwright-demo-2.xlsx").exists()
+    assert (tmp_path / "cellwright-demo.xlsx").read_bytes() == first

@@ -190,7 +190,7 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     from udfs.engine.files import check_output
 
     has_workbook = templates.demo_template() is not None or _has_build_demo()
-    out = args.output if args.output is not None else "cellwright-demo.xlsx"
+    out = args.output if args.output is not None else _fresh_demo_name()
     if args.output is not None and not has_workbook:
         raise _DemoUnavailableError()
     if has_workbook:
@@ -201,6 +201,17 @@ def _cmd_demo(args: argparse.Namespace) -> int:
         _say("(The demo workbook is written once the cell-sizing template exists.)")
         return 0
     return _demo_workbook(out, args.force)
+
+
+def _fresh_demo_name(stem: str = "cellwright-demo") -> str:
+    """The default demo file: ``cellwright-demo.xlsx``, or the first free
+    ``cellwright-demo-N.xlsx`` when earlier demos are there (never overwritten)."""
+    name = f"{stem}.xlsx"
+    n = 1
+    while os.path.exists(name):
+        n += 1
+        name = f"{stem}-{n}.xlsx"
+    return name
 
 
 def _has_build_demo() -> bool:
