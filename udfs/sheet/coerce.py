@@ -194,8 +194,6 @@ def _fast_float_range(value: Any) -> NDArray[np.float64] | None:
             return None
         if arr.ndim not in (1, 2) or arr.size == 0 or _has_bool(arr, value):
             return None
-        if np.isnan(arr).any():  # None (an empty cell) also converts to NaN: go element-wise
-            return None
     if arr.ndim == 1:
         arr = arr.reshape(1, -1)
     elif arr.ndim == 0:
@@ -203,10 +201,7 @@ def _fast_float_range(value: Any) -> NDArray[np.float64] | None:
     return arr
 
 
-def _mark_domain(arr: NDArray[np.float64], arg: Num) -> Coerced:
-    ok = arg.domain.ok(arr)
-    if ok.all():
-        return Coerced(arr)
+def _mark_domain(arr: NDArray[np.float64], arg: Num, ok: NDArray[np.bool_]) -> Coerced:
     bad = ~ok
     errors = np.empty(arr.shape, dtype=object)
     for idx in zip(*np.nonzero(bad), strict=True):
@@ -222,7 +217,13 @@ def number_arg(value: Any, arg: Num) -> Coerced:
     if isinstance(value, (list, tuple, np.ndarray)):
         arr = _fast_float_range(value)
         if arr is not None:
-            return _mark_domain(arr, arg)
+            ok = arg.domain.ok(arr)
+            if ok.all():
+                return Coerced(arr)
+            # None (an empty cell) also converts to NaN: such ranges go element-wise
+            # below, so an empty cell takes its default or says it is empty
+            if not np.isnan(arr[~ok]).any():
+                return _mark_domain(arr, arg, ok)
         rows = _grid(value, arg.name)
         vals = np.empty((len(rows), len(rows[0])))
         errors = np.empty(vals.shape, dtype=object)
