@@ -97,3 +97,20 @@ def test_text_where_a_number_belongs_names_the_argument() -> None:
 
     with pytest.raises(InputError, match="molar_mass must be a number > 0"):
         faraday.energy_per_mass(2.0, "H2", 2)  # type: ignore[arg-type]
+
+
+@pytest.mark.parametrize(
+    ("name", "pint_name", "unit"),
+    [
+        ("F", "faraday_constant", "C/mol"),
+        ("R", "molar_gas_constant", "J/(mol*K)"),
+        ("NA", "avogadro_constant", "1/mol"),
+        ("e", "elementary_charge", "C"),
+        ("k", "boltzmann_constant", "J/K"),
+    ],
+)
+def test_constants_equal_pints_codata_definitions(name: str, pint_name: str, unit: str) -> None:
+    # CODATA2018 as defined in pint: our single typed-in values must agree exactly
+    reg = units.registry()
+    expected = (1 * getattr(reg, pint_name)).to(unit).magnitude
+    assert constants.constant(name)[0] == pytest.approx(expected, rel=1e-15)

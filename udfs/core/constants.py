@@ -1,4 +1,4 @@
-"""Physical constants from CODATA 2018 (as defined in pint), typed in once.
+"""Physical constants from CODATA 2018 (the exact SI defining constants), typed in once.
 
 Since the 2019 SI redefinition F = N_A e and R = N_A k are exact.
 
@@ -12,26 +12,17 @@ from __future__ import annotations
 
 import math
 
-from .units import registry
+#: The SI defining constants (exact since 2019; CODATA 2018 lists them unchanged).
+#: Typed here once; a test checks them against pint's own definitions, so the
+#: package does not build a unit registry just to know F and R (it costs ~0.3 s).
+AVOGADRO: float = 6.02214076e23  # 1/mol
+ELEMENTARY_CHARGE: float = 1.602176634e-19  # C
+BOLTZMANN: float = 1.380649e-23  # J/K
 
-__all__ = [
-    "LN10",
-    "PKW_25C",
-    "SECONDS_PER_HOUR",
-    "T0",
-    "T_STANDARD",
-    "F",
-    "R",
-    "constant",
-    "constant_names",
-]
-
-_reg = registry()
-
-#: Faraday constant, C/mol (CODATA 2018, exact).
-F: float = float((1 * _reg.faraday_constant).to("C/mol").magnitude)
-#: Molar gas constant, J/(mol K) (CODATA 2018, exact).
-R: float = float((1 * _reg.molar_gas_constant).to("J/(mol*K)").magnitude)
+#: Faraday constant, C/mol: F = N_A e (CODATA 2018, exact).
+F: float = AVOGADRO * ELEMENTARY_CHARGE
+#: Molar gas constant, J/(mol K): R = N_A k (CODATA 2018, exact).
+R: float = AVOGADRO * BOLTZMANN
 #: 0 degC in kelvin (SI definition).
 T0: float = 273.15
 #: Standard temperature of the tables, 25 degC, in kelvin.
@@ -45,17 +36,9 @@ PKW_25C: float = 13.995
 _TABLE: dict[str, tuple[float, str, str]] = {
     "F": (F, "C/mol", "Faraday constant (CODATA 2018, exact)"),
     "R": (R, "J/(mol*K)", "molar gas constant (CODATA 2018, exact)"),
-    "NA": (
-        float((1 * _reg.avogadro_constant).to("1/mol").magnitude),
-        "1/mol",
-        "Avogadro constant (exact)",
-    ),
-    "e": (float((1 * _reg.elementary_charge).to("C").magnitude), "C", "elementary charge (exact)"),
-    "k": (
-        float((1 * _reg.boltzmann_constant).to("J/K").magnitude),
-        "J/K",
-        "Boltzmann constant (exact)",
-    ),
+    "NA": (AVOGADRO, "1/mol", "Avogadro constant (exact)"),
+    "e": (ELEMENTARY_CHARGE, "C", "elementary charge (exact)"),
+    "k": (BOLTZMANN, "J/K", "Boltzmann constant (exact)"),
     "T0": (T0, "K", "0 degC in kelvin"),
     "T25": (T_STANDARD, "K", "25 degC in kelvin, the tables' standard temperature"),
     "NERNST_SLOPE": (
