@@ -14,7 +14,6 @@ independent, which the catalogue note says).
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping
 
 import numpy as np
@@ -51,10 +50,8 @@ def nernst(
     ox = check("ox_activity", ox_activity, POSITIVE)
     red = check("red_activity", red_activity, POSITIVE)
     t = check("temp_C", temp_C, CELSIUS)
-    ratio = red / ox
-    # one cell: math.log10 on a float is several times cheaper than the ufunc
-    logq = math.log10(ratio) if isinstance(ratio, float) else np.log10(ratio)
-    return e - LN10 * R * (t + T0) / (n * F) * logq
+    # one ufunc for one cell and for ranges alike, so a range equals its cells' calls
+    return e - LN10 * R * (t + T0) / (n * F) * np.log10(red / ox)
 
 
 def e0(couple_id: str, temp_C: ArrayLike = 25.0) -> Array:
