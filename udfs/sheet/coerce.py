@@ -136,16 +136,9 @@ def _number_element(x: Any, arg: Num) -> Any:
                 "#NUM!", f"{arg.name} must be {arg.domain.allowed} (got a number too large)"
             )
     elif isinstance(x, str):
-        if isinstance(x, SheetError):
-            return x
-        if _is_empty_token(x):
-            return _EMPTY
-        s = x.strip()
-        if not s:
-            return _EMPTY
-        err = incoming_error(s)
-        if err is not None:
-            return err
+        s = _read_text(x)
+        if not _is_plain_text(s):
+            return s  # an error value or _EMPTY
         try:
             v = float(s)  # numeric text counts as its number
         except ValueError:
@@ -247,18 +240,27 @@ def number_arg(value: Any, arg: Num) -> Coerced:
 # --------------------------------------------------------------------------- text
 
 
+def _read_text(x: str) -> Any:
+    """A cell's text: stripped text, an error value (ours or an incoming one), or _EMPTY."""
+    if isinstance(x, SheetError):
+        return x
+    if _is_empty_token(x):
+        return _EMPTY
+    s = x.strip()
+    if not s:
+        return _EMPTY
+    err = incoming_error(s)
+    return s if err is None else err
+
+
+def _is_plain_text(value: Any) -> bool:
+    return isinstance(value, str) and not isinstance(value, SheetError)
+
+
 def _text_element(x: Any, arg: Arg) -> Any:
     """Stripped text, a SheetError, or _EMPTY."""
     if isinstance(x, str):
-        if isinstance(x, SheetError):
-            return x
-        if _is_empty_token(x):
-            return _EMPTY
-        s = x.strip()
-        if not s:
-            return _EMPTY
-        err = incoming_error(s)
-        return s if err is None else err
+        return _read_text(x)
     if x is None:
         return _EMPTY
     if isinstance(x, (bool, np.bool_)):
