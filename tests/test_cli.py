@@ -14,7 +14,7 @@ import sys
 
 import openpyxl
 import pytest
-from openpyxl.workbook.defined_name import DefinedName
+from bad_input_catalogue import build_book
 
 from udfs.cli import main
 from udfs.engine.adapter import register
@@ -56,20 +56,8 @@ def call(capsys, *args):
 
 @pytest.fixture
 def book(tmp_path):
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Inputs"
-    ws["B4"] = 40.0
-    ws["B5"] = 3.0
-    calc = wb.create_sheet("Calc")
-    calc["A1"] = "=Inputs!B4*Inputs!B5"
-    calc["A2"] = "=SUM(Inputs!B4:B5)"
-    calc["A3"] = '=CW_MOLAR_MASS("H2O")*Inputs!B5'
-    for name, ref in (("load", "Inputs!$B$4"), ("product", "Calc!$A$1"), ("total", "Calc!$A$2")):
-        wb.defined_names[name] = DefinedName(name, attr_text=ref)
-    path = tmp_path / "in.xlsx"
-    wb.save(path)
-    return path
+    # the same small workbook the bad-input catalogue runs its command lines on
+    return build_book(tmp_path)
 
 
 def _digest(path):
