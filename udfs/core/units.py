@@ -14,12 +14,15 @@ from __future__ import annotations
 import difflib
 import math
 from functools import cache, lru_cache
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pint
 from numpy.typing import ArrayLike, NDArray
 
 from .errors import UnitError
+
+if TYPE_CHECKING:  # pint is imported on first use: a calculation without units never pays for it
+    import pint
 
 __all__ = ["conversion", "convert", "dimension_of", "registry"]
 
@@ -113,7 +116,9 @@ _RANGE = "the conversion factor is outside the range of a floating-point number"
 
 @cache
 def registry() -> pint.UnitRegistry:
-    """The package's single unit registry (built on first use)."""
+    """The package's single unit registry (imported and built on first use)."""
+    import pint
+
     reg: pint.UnitRegistry = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
     reg.define("tonne_metric = 1000 * kilogram = t")
     return reg
@@ -140,10 +145,11 @@ def conversion(from_unit: str, to_unit: str, argument: str = "unit") -> tuple[fl
     src = _parse(from_unit, argument)
     dst = _parse(to_unit, argument)
     reg = registry()
+    from pint import DimensionalityError  # imported by registry() already
     try:
         zero = reg.Quantity(0.0, src).to(dst).magnitude
         one = reg.Quantity(1.0, src).to(dst).magnitude
-    except pint.DimensionalityError as exc:
+    except DimensionalityError as exc:
         raise UnitError(
             argument,
             from_unit,

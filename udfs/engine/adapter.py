@@ -46,6 +46,11 @@ from formulas.tokens.operand import Error, XlError
 
 from udfs.sheet.errors import CODES, SheetError
 
+from . import lookup
+from .deferred_scipy import import_statistics
+
+import_statistics()  # before get_functions(): SciPy waits until a function needs it
+
 __all__ = [
     "MESSAGES",
     "CellValue",
@@ -87,6 +92,8 @@ def messages_for(name: str) -> list[str]:
 
 def from_engine(value: Any) -> CellValue:
     """One engine value as a plain cell value (errors as SheetError)."""
+    if type(value) is float:
+        return value
     if value is sh.EMPTY or value is None:
         return None
     if isinstance(value, XlError):
@@ -125,6 +132,8 @@ def _error(code: str) -> XlError:
 
 def to_engine(result: Any, name: str = "") -> Any:
     """A sheet function's result as an engine value (scalar or 2-D Array)."""
+    if type(result) is float and result - result == 0.0:  # finite
+        return result
     if isinstance(result, SheetError):
         if name:
             _remember(name, str(result))
@@ -184,6 +193,19 @@ class SheetFunctionAdapter:
     def __repr__(self) -> str:
         return f"SheetFunctionAdapter({self.name})"
 
+    def call_values(self, *values: Any) -> Any:
+        """Call with plain cell values (no error among them) and give the engine's value.
+
+        Calling the adapter with one-cell engine values that are numbers (``int``
+        or ``float``, not ``bool``) is the same as calling this with those numbers.
+        """
+        try:
+            result = self.func(*values)
+        except Exception as exc:  # a sheet function must not raise; never let it escape
+            _remember(self.name, f"#VALUE! {type(exc).__name__}: {exc}")
+            return _error("#VALUE!")
+        return to_engine(result, self.name)
+
     def __call__(self, *args: Any) -> Any:
         try:
             values = [_argument(a) for a in args]
@@ -192,12 +214,7 @@ class SheetFunctionAdapter:
         for v in values:
             if isinstance(v, SheetError):
                 return _error(v.code)
-        try:
-            result = self.func(*values)
-        except Exception as exc:  # a sheet function must not raise; never let it escape
-            _remember(self.name, f"#VALUE! {type(exc).__name__}: {exc}")
-            return _error("#VALUE!")
-        return to_engine(result, self.name)
+        return self.call_values(*values)
 
 
 def sheet_functions() -> dict[str, Callable[..., Any]]:
@@ -229,12 +246,21 @@ def _bound_round_digits() -> None:
         return wrap_ufunc(element)
 
     table = get_functions()
-    table["ROUND"] = bounded(xl_math.xround)
-    table["ROUNDDOWN"] = bounded(functools.partial(xl_math.xround, func=math.floor))
-    table["ROUNDUP"] = bounded(functools.partial(xl_math.xround, func=math.ceil))
+    for name, inner in (
+        ("ROUND", xl_math.xround),
+        ("ROUNDDOWN", functools.partial(xl_math.xround, func=math.floor)),
+        ("ROUNDUP", functools.partial(xl_math.xround, func=math.ceil)),
+    ):
+        table[name] = bounded(inner)
+        ROUNDING[table[name]] = inner
+
+
+#: the installed ROUND, ROUNDDOWN and ROUNDUP -> their element function of (float, float)
+ROUNDING: dict[Callable[..., Any], Callable[[float, float], Any]] = {}
 
 
 _bound_round_digits()
+lookup.install(get_functions())  # INDEX without a reference object per cell of its range
 
 
 def register(functions: Mapping[str, Callable[..., Any]]) -> int:

@@ -57,6 +57,8 @@ from formulas.tokens.operand import Number, Range, XlError
 from udfs.sheet.errors import SheetError
 
 from .adapter import SheetFunctionAdapter, from_engine
+from .aggregates import aggregate_for
+from .chain import BAIL, Chain, compile_chain
 from .scalar_ops import shortcut_for
 
 __all__ = ["FastPlan", "FastRunError", "Key", "NotCoveredError"]
@@ -158,6 +160,7 @@ class _Template:
     program: list[tuple[int, Callable[..., Any], tuple[int, ...], Any]]
     root: int
     numbers: list[int] | None = None  # const slots of the numbers, in text order (shareable)
+    chain: Chain | None = None  # one-cell formulas: the steps on plain values (chain.py)
 
 
 @dataclass
@@ -172,6 +175,7 @@ class _Bound:
     c2: int
     raw: bool
     rng: dict[str, Any] | None = None  # the engine's range dict (for Ranges objects)
+    keys: list[Key] | None = None  # the cells of a range, row by row (made on first fetch)
     single: bool = field(init=False)
     plain: bool = field(init=False)  # one cell, passed as its value
     key: Key = field(init=False)
@@ -209,6 +213,10 @@ class Unit:
     consts: list[Any]  # the template's constants with this cell's numbers
     order: int = 0
     readers: list[Unit] = field(default_factory=list)
+    key: Key = field(init=False)  # the top-left cell
+
+    def __post_init__(self) -> None:
+        self.key = (self.sheet, self.r1, self.c1)
 
     @property
     def shape(self) -> tuple[int, int]:
@@ -251,6 +259,9 @@ def _settle(value: Any, shape: tuple[int, int], rng: dict[str, Any]) -> np.ndarr
 
 class FastPlan:
     """Evaluation plan of a loaded workbook (see module doc); raises NotCoveredError."""
+
+    #: evaluate one-cell formulas on plain values where chain.py covers them (same results)
+    use_chain = True
 
     def __init__(self, book: Any):
         self._sheets = {ws.title.upper(): ws for ws in book.worksheets}
@@ -517,7 +528,7 @@ class FastPlan:
                 consumers_raw.update(ins)
             s = len(consts)
             consts.append(None)
-            kind = shortcut_for(func) if value_func else None
+            kind = (shortcut_for(func) or aggregate_for(func)) if value_func else None
             program.append((s, func, tuple(ins), kind))
             slots[node] = s
             return s
@@ -526,6 +537,9 @@ class FastPlan:
         for ref in refs:
             ref.raw = ref.slot in consumers_raw
         tpl = _Template(r1, c1, consts, refs, program, root)
+        if (r1, c1) == (r2, c2):
+            plain_refs = {r.slot: r.r1 == r.r2 and r.c1 == r.c2 and not r.raw for r in refs}
+            tpl.chain = compile_chain(program, root, consts, plain_refs)
         # numbers: one node each (none written twice) lined up with the text's numbers
         number_tokens = [t for t in tokens if isinstance(t, Number) and t.name[:1] in _DIGITS]
         names = [t.name for t in number_tokens]
@@ -596,15 +610,13 @@ class FastPlan:
         if b.single:
             arr = cells.get((b.sheet, b.r1, b.c1), _EMPTY11)
         else:
-            rows, cols = b.r2 - b.r1 + 1, b.c2 - b.c1 + 1
-            arr = np.empty((rows, cols), object)
-            arr[:, :] = _EMPTY
-            sheet, r1, c1 = b.sheet, b.r1, b.c1
-            for r in range(rows):
-                for c in range(cols):
-                    got = cells.get((sheet, r1 + r, c1 + c))
-                    if got is not None:
-                        arr[r, c] = got[0, 0]
+            if b.keys is None:
+                b.keys = list(b.cells())  # row by row
+            get = cells.get
+            items = [_EMPTY if (got := get(k)) is None else got[0, 0] for k in b.keys]
+            arr = np.empty(len(items), object)
+            arr[:] = items
+            arr = arr.reshape(b.r2 - b.r1 + 1, b.c2 - b.c1 + 1)
         if not b.raw:
             return arr
         if b.rng is None:
@@ -613,6 +625,17 @@ class FastPlan:
 
     def _run(self, unit: Unit, cells: dict[Key, np.ndarray]) -> None:
         tpl = unit.template
+        if tpl.chain is not None and self.use_chain:
+            value = tpl.chain.run(unit.consts, unit.refs, cells)
+            if value is not BAIL:
+                t = type(value)
+                if t is float or t is int or t is bool or t is str:  # _settle, inlined
+                    stored = np.empty((1, 1), object)
+                    stored[0, 0] = value
+                    cells[unit.key] = stored
+                else:
+                    cells[unit.key] = _settle(value, (1, 1), unit.rng)
+                return
         regs = list(unit.consts)
         for b in unit.refs:
             if b.plain:
@@ -635,7 +658,7 @@ class FastPlan:
             value = value.value
         stored = _settle(value, unit.shape, unit.rng)
         if unit.shape == (1, 1):
-            cells[(unit.sheet, unit.r1, unit.c1)] = stored
+            cells[unit.key] = stored
         else:
             rows, cols = stored.shape
             for key, i, j in unit.cells():

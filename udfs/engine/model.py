@@ -820,9 +820,11 @@ class WorkbookModel:
                 self._fast_cache = values
             return dict(values)
         values = dict(self._fast_cache)
+        unit_cells = self._unit_cells
         for unit in units:
-            for ref, key in self._unit_cells[unit.order]:
-                values[ref] = plain(cells[key][0, 0])
+            for ref, key in unit_cells[unit.order]:
+                v = cells[key][0, 0]
+                values[ref] = v if type(v) is float else plain(v)  # a float is its own value
         return values
 
     def _evaluate_fast(

@@ -44,7 +44,7 @@ from formulas.functions import (
 )
 from formulas.functions.operators import logic_wrap
 
-__all__ = ["shortcut_for"]
+__all__ = ["element_parts", "shortcut_for"]
 
 Shortcut = Callable[[Callable[..., Any], list[Any]], Any]
 
@@ -138,7 +138,17 @@ def _make(safe_eval: Callable[..., Any], empty_to_zero: bool) -> Shortcut:
             return out.view(Array)
         return np.asanyarray(r, dtype=object).view(Array)
 
+    _PARTS[shortcut] = (element, empty_to_zero)
     return shortcut
+
+
+#: shortcut -> (its element function of a list of values, whether empty cells become 0)
+_PARTS: dict[Shortcut, tuple[Callable[[list[Any]], Any], bool]] = {}
+
+
+def element_parts(shortcut: Shortcut) -> tuple[Callable[[list[Any]], Any], bool] | None:
+    """The element function a shortcut calls and whether it turns empty cells into 0."""
+    return _PARTS.get(shortcut)
 
 
 @functools.cache

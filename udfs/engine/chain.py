@@ -1,0 +1,271 @@
+"""One-cell formulas evaluated on plain values: no array per step, plain float arithmetic.
+
+In :class:`udfs.engine.fast.FastPlan` every step of a formula returns the
+engine's array: a (1, 1) object array per operator, comparison or function.
+For a one-cell formula whose steps are all element-wise (operators, IF, ROUND
+... -- the functions :func:`udfs.engine.scalar_ops.shortcut_for` knows), our
+``CW_`` functions, and MAX or MIN, :func:`compile_chain` builds a :class:`Chain`
+that keeps each step's single value as it is and builds the array only for the
+formula's result, exactly as the step would have. Two further shortcuts give
+the engine's own results without calling it:
+
+* ``+ - * / %`` and unary minus on two numbers (``int`` or ``float``, not
+  ``bool``) are computed as the engine computes them -- both converted with
+  ``float`` -- when the result is finite and the divisor is not zero
+  (otherwise the engine's function decides: #NUM!, #DIV/0!);
+* ``= <> < <= > >=`` on two numbers compare them as numbers;
+* IFERROR of a number is that number; IF with a number or TRUE/FALSE picks;
+* ROUND, ROUNDUP and ROUNDDOWN of two numbers call the engine's own rounding of
+  the two floats when the digits are in range and the result is finite;
+* our ``CW_`` functions of numbers skip the engine-value conversions;
+* MAX and MIN of single numbers are Python's ``max`` and ``min`` of them in
+  order, as the engine's own code does.
+
+Anything else -- a text, an empty cell, an error value, a step that raises or
+returns an array -- makes :meth:`Chain.run` return :data:`BAIL`, and the caller
+evaluates the cell the usual way. Tests compare both ways on edge values.
+
+>>> import operator
+>>> NATIVE_BINARY[operator.add.__name__](2.0, 3)
+5.0
+"""
+
+from __future__ import annotations
+
+import operator
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+import numpy as np
+import schedula as sh
+from formulas.functions import Array, XlError, get_functions
+from formulas.functions.operators import OPERATORS
+
+from .adapter import MAX_ROUND_DIGITS, ROUNDING, SheetFunctionAdapter
+from .scalar_ops import element_parts
+
+__all__ = ["BAIL", "Chain", "compile_chain"]
+
+BAIL: Any = object()  # evaluate this cell the usual way
+
+_EMPTY = sh.EMPTY
+_EMPTY11 = np.empty((1, 1), object)
+_EMPTY11[0, 0] = _EMPTY
+
+# step modes
+_ELEMENT, _ARITH, _COMPARE, _NEGATE, _PERCENT, _SHEET, _MINMAX, _IFERROR, _IF, _ROUND = range(10)
+
+
+def _divide(x: float, y: float) -> float:
+    return x / y
+
+
+NATIVE_BINARY: dict[str, Callable[[float, float], Any]] = {
+    "add": operator.add,
+    "sub": operator.sub,
+    "mul": operator.mul,
+    "truediv": _divide,
+}
+_ARITH_OPS = {"+": operator.add, "-": operator.sub, "*": operator.mul, "/": _divide}
+_COMPARE_OPS = {
+    "=": operator.eq,
+    "<>": operator.ne,
+    "<": operator.lt,
+    "<=": operator.le,
+    ">": operator.gt,
+    ">=": operator.ge,
+}
+_CONST_TYPES = (float, int, bool, str, XlError)
+
+
+def _native(func: Any) -> tuple[int, Callable[..., Any] | None]:
+    for sign, op in _ARITH_OPS.items():
+        if func is OPERATORS[sign]:
+            return _ARITH, op
+    for sign, op in _COMPARE_OPS.items():
+        if func is OPERATORS[sign]:
+            return _COMPARE, op
+    if func is OPERATORS["U-"]:
+        return _NEGATE, None
+    if func is OPERATORS["%"]:
+        return _PERCENT, None
+    if func is _function("IFERROR"):
+        return _IFERROR, None
+    if func is _function("IF"):
+        return _IF, None
+    if func in ROUNDING:
+        return _ROUND, ROUNDING[func]
+    return _ELEMENT, None
+
+
+def _function(name: str) -> Any:
+    entry = get_functions()[name]
+    return entry.get("function") if isinstance(entry, dict) else entry
+
+
+def _minmax(func: Any) -> Callable[..., Any] | None:
+    table = get_functions()
+    if func is table["MAX"]:
+        return max
+    if func is table["MIN"]:
+        return min
+    return None
+
+
+class Chain:
+    """The steps of one formula template on plain values (see module doc)."""
+
+    __slots__ = ("root_two_d", "steps")
+
+    def __init__(self, steps: list[tuple[Any, ...]], root_two_d: bool | None):
+        self.steps = steps
+        self.root_two_d = root_two_d  # None: the root is a sheet function's or MAX's value
+
+    def run(self, consts: Sequence[Any], refs: Sequence[Any], cells: Mapping[Any, Any]) -> Any:
+        """The formula's value as the usual evaluation gives it, or :data:`BAIL`."""
+        try:
+            return self._run(consts, refs, cells)
+        except Exception:  # e.g. float() of an int too large: the usual way decides
+            return BAIL
+
+    def _run(self, consts: Sequence[Any], refs: Sequence[Any], cells: Mapping[Any, Any]) -> Any:
+        vals = list(consts)
+        for b in refs:
+            got = cells.get(b.key)
+            vals[b.slot] = _EMPTY if got is None else got[0, 0]
+        r: Any = None
+        for out, ins, mode, fn, element, empty_to_zero in self.steps:
+            if mode in (_ARITH, _COMPARE):
+                x, y = vals[ins[0]], vals[ins[1]]
+                tx, ty = type(x), type(y)
+                if (tx is float or tx is int) and (ty is float or ty is int):
+                    if mode == _COMPARE:
+                        vals[out] = fn(x, y)
+                        continue
+                    if not (fn is _divide and y == 0):
+                        r = fn(float(x), float(y))
+                        if r - r == 0.0:  # finite
+                            vals[out] = r
+                            continue
+            elif mode in (_NEGATE, _PERCENT):
+                x = vals[ins[0]]
+                tx = type(x)
+                if tx is float or tx is int:
+                    vals[out] = -float(x) if mode == _NEGATE else float(x) / 100.0
+                    continue
+            elif mode == _IFERROR:
+                x = vals[ins[0]]
+                tx = type(x)
+                if tx is float or tx is int:  # not an error: the value itself
+                    vals[out] = x
+                    continue
+            elif mode == _IF:
+                cond = vals[ins[0]]
+                tc = type(cond)
+                if tc is bool or tc is float or tc is int:  # not text, an error or empty
+                    r = vals[ins[1]] if cond else (vals[ins[2]] if len(ins) > 2 else False)
+                    vals[out] = 0 if r is _EMPTY else r
+                    continue
+            elif mode == _ROUND:
+                x, d = vals[ins[0]], vals[ins[1]]
+                tx, td = type(x), type(d)
+                if (tx is float or tx is int) and (td is float or td is int):
+                    d = float(d)
+                    if abs(d) <= MAX_ROUND_DIGITS:
+                        r = fn(float(x), d)
+                        if type(r) is float and r - r == 0.0:
+                            vals[out] = r
+                            continue
+            elif mode == _SHEET:
+                elems = [vals[i] for i in ins]
+                call = fn.call_values  # numbers need no conversion from engine values
+                for v in elems:
+                    tv = type(v)
+                    if tv is not float and tv is not int:
+                        call = fn
+                        break
+                r = call(*elems)
+                if isinstance(r, np.ndarray) or r is sh.NONE:
+                    return BAIL
+                vals[out] = r
+                continue
+            elif mode == _MINMAX:
+                elems = [vals[i] for i in ins]
+                for v in elems:
+                    tv = type(v)
+                    if tv is not float and tv is not int:
+                        return BAIL
+                vals[out] = fn(elems) if elems else 0
+                continue
+            elems = [vals[i] for i in ins]
+            if empty_to_zero:
+                elems = [0 if v is _EMPTY else v for v in elems]
+            r = element(elems)
+            if isinstance(r, (list, tuple, np.ndarray)):
+                return BAIL
+            vals[out] = r
+        value = vals[self.steps[-1][0]]
+        if self.root_two_d is None:
+            return value
+        if self.root_two_d:
+            box = np.empty((1, 1), object)
+            box[0, 0] = value
+            return box.view(Array)
+        return np.asanyarray(value, dtype=object).view(Array)
+
+
+def compile_chain(
+    program: Sequence[tuple[int, Any, tuple[int, ...], Any]],
+    root: int,
+    consts: Sequence[Any],
+    ref_slots: Mapping[int, bool],
+) -> Chain | None:
+    """A :class:`Chain` for a one-cell template, or None when a step is not covered.
+
+    ``ref_slots`` maps each reference slot to True when it is a plain one-cell
+    reference (any other reference makes the template uncovered).
+    """
+    if not program or program[-1][0] != root or not all(ref_slots.values()):
+        return None
+    two_d: dict[int, bool] = {}
+    for slot in ref_slots:
+        two_d[slot] = True
+    for i, c in enumerate(consts):
+        if i in ref_slots or c is None:
+            continue
+        if not (c is _EMPTY or isinstance(c, _CONST_TYPES)):
+            return None
+        two_d[i] = False
+    steps: list[tuple[Any, ...]] = []
+    root_two_d: bool | None = None
+    for out, func, ins, kind in program:
+        if any(i not in two_d for i in ins):
+            return None
+        parts = element_parts(kind) if kind is not None else None
+        if parts is not None:
+            if len(ins) >= 32:
+                return None
+            element, empty_to_zero = parts
+            mode, op = _native(func)
+            arity = {_ARITH: 2, _COMPARE: 2, _NEGATE: 1, _PERCENT: 1, _IFERROR: 2, _ROUND: 2}.get(
+                mode, len(ins)
+            )
+            if mode == _IF and len(ins) not in (2, 3):
+                arity = -1
+            if arity != len(ins):
+                mode, op = _ELEMENT, None
+            steps.append((out, ins, mode, op, element, empty_to_zero))
+            two_d[out] = any(two_d[i] for i in ins)
+            root_two_d = two_d[out]
+        elif isinstance(func, SheetFunctionAdapter):
+            steps.append((out, ins, _SHEET, func, None, False))
+            two_d[out] = False
+            root_two_d = None
+        else:
+            pick = _minmax(func)
+            if pick is None:
+                return None
+            steps.append((out, ins, _MINMAX, pick, None, False))
+            two_d[out] = False
+            root_two_d = None
+    return Chain(steps, root_two_d)
