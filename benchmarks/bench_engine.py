@@ -310,10 +310,13 @@ def main() -> None:
                 f"     against the full engine in this run: cold {base['cold'] / r['cold']:.1f}x "
                 f"faster, warm {base['warm_all'] / r['warm_all']:.1f}x faster"
             )
-            ok = r["warm_all"] < 0.05 and r["warm_all_ratio"] >= 20
+            fast_enough = "met" if r["warm_all"] < 0.05 else "NOT met"
+            in_process = "met" if r["warm_all_ratio"] >= 20 else "NOT met"
+            print(f"     goal warm < 50 ms: {fast_enough}")
             print(
-                f"     goal warm < 50 ms and cold/warm >= 20x, cold in process:"
-                f" {'met' if ok else 'NOT met'} (end to end: section 2)"
+                f"     goal cold/warm >= 20x with cold in process (after start-up and imports):"
+                f" {in_process}; with cold end to end (the run compared with LibreOffice):"
+                f" section 2"
             )
 
     office = find_office()
