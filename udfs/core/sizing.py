@@ -49,6 +49,7 @@ __all__ = [
     "CellValues",
     "PackDesign",
     "design_cell",
+    "price_basis",
     "size_cell",
     "size_pack",
 ]
@@ -191,12 +192,23 @@ def _binder_shares(value: object, argument: str) -> tuple[tuple[_Mat, float], ..
     return tuple(out)
 
 
+_BASES = {"kg": "kg", "m^2": "m2", "m2": "m2", "m**2": "m2"}
+
+
 @lru_cache(maxsize=128)
-def _price_basis(unit: str, argument: str) -> tuple[str, float]:
-    """``('kg' | 'm2', factor)``: price per unit times factor = USD/kg or USD/m^2."""
+def price_basis(unit: str, argument: str) -> tuple[str, float]:
+    """``('kg' | 'm2', factor)``: price per unit times factor = USD/kg or USD/m^2.
+
+    >>> price_basis("USD/t", "price")
+    ('kg', 0.001)
+    >>> price_basis("USD/m^2", "price")
+    ('m2', 1.0)
+    """
     currency, slash, denominator = unit.replace(" ", "").partition("/")
     if currency.upper() != "USD" or not slash or not denominator:
         raise UnitError(argument, unit, "a price unit such as 'USD/kg', 'USD/t' or 'USD/m^2'")
+    if denominator in _BASES:  # already on a basis: no unit registry needed
+        return _BASES[denominator], 1.0
     dim = dimension_of(denominator, argument)
     if dim == "[mass]":
         return "kg", 1.0 / conversion(denominator, "kg", argument)[0]
@@ -217,7 +229,7 @@ def _user_prices(prices: Mapping[str, Price] | None) -> dict[str, tuple[Array, s
         if isinstance(raw, tuple):
             if len(raw) != 2 or not isinstance(raw[1], str):
                 raise InputError(where, raw, "a number in USD/kg or a pair (value, 'USD/m^2')")
-            basis, factor = _price_basis(raw[1], where)
+            basis, factor = price_basis(raw[1], where)
             out[canonical] = (_check(where, raw[0], NONNEGATIVE) * factor, basis)
         else:
             out[canonical] = (_check(where, raw, NONNEGATIVE), "kg")
@@ -233,7 +245,7 @@ def _unit_price(name: str, given: Mapping[str, tuple[Array, str]]) -> tuple[Arra
         raise InputError(
             "prices", None, detail=f"no price for {name!r}; add it to prices"
         ) from None
-    basis, factor = _price_basis(fact.unit, f"demo price of {name!r}")
+    basis, factor = price_basis(fact.unit, f"demo price of {name!r}")
     return np.asarray(float(fact.value) * factor), basis
 
 

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import cache
 from typing import Literal
 
 from openpyxl.cell.cell import Cell
@@ -77,6 +78,7 @@ _THIN = Side(style="thin", color=PALETTE["input_edge"])
 _HAIR = Side(style="hair", color="B9C4C8")
 
 
+@cache  # one Font per kind, shared by the cells (openpyxl stores styles by value)
 def _font(kind: Kind) -> Font:
     return {
         "input": Font(color=PALETTE["input_ink"], bold=True, size=11),
@@ -98,20 +100,33 @@ _FILLS: dict[str, str] = {
 }
 
 
-def style(cell: Cell, kind: Kind, number_format: str | None = None) -> Cell:
-    """Give ``cell`` the look of ``kind``; inputs are unlocked, all else locked."""
-    cell.font = _font(kind)
+@cache  # one set of style objects per kind, shared by the cells
+def _look(kind: Kind) -> tuple[PatternFill | None, Border | None, Protection, Alignment]:
+    fill = None
     if kind in _FILLS:
         colour = PALETTE[_FILLS[kind]]
-        cell.fill = PatternFill("solid", start_color=colour, end_color=colour)
+        fill = PatternFill("solid", start_color=colour, end_color=colour)
+    border = None
     if kind == "input":
-        cell.border = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
+        border = Border(left=_THIN, right=_THIN, top=_THIN, bottom=_THIN)
     elif kind in ("calc", "lookup", "result"):
-        cell.border = Border(bottom=_HAIR)
-    cell.protection = Protection(locked=kind != "input")
+        border = Border(bottom=_HAIR)
     wrap = kind == "band"
     horizontal = "center" if kind == "band" else None
-    cell.alignment = Alignment(vertical="center", wrap_text=wrap, horizontal=horizontal)
+    alignment = Alignment(vertical="center", wrap_text=wrap, horizontal=horizontal)
+    return fill, border, Protection(locked=kind != "input"), alignment
+
+
+def style(cell: Cell, kind: Kind, number_format: str | None = None) -> Cell:
+    """Give ``cell`` the look of ``kind``; inputs are unlocked, all else locked."""
+    fill, border, protection, alignment = _look(kind)
+    cell.font = _font(kind)
+    if fill is not None:
+        cell.fill = fill
+    if border is not None:
+        cell.border = border
+    cell.protection = protection
+    cell.alignment = alignment
     if number_format:
         cell.number_format = number_format
     return cell

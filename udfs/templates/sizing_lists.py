@@ -18,7 +18,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from ..core import catalogue, procurement
 from ..core.errors import NotFoundError
-from ..core.units import conversion, dimension_of
+from ..core.sizing import price_basis
 from .layout import add_name, style
 
 __all__ = ["ELEMENTS", "LIST_ROLES", "demo_price", "write_lists"]
@@ -50,12 +50,8 @@ def demo_price(name: str) -> tuple[float, str] | None:
         fact = catalogue.price(name)
     except NotFoundError:
         return None
-    currency, _, per = fact.unit.replace(" ", "").partition("/")
-    if currency.upper() != "USD" or not per:
-        raise ValueError(f"demo price of {name!r}: unit {fact.unit!r} is not USD per something")
-    if dimension_of(per, "unit") == "[mass]":
-        return float(fact.value) / conversion(per, "kg", "unit")[0], "USD/kg"
-    return float(fact.value) / conversion(per, "m^2", "unit")[0], "USD/m^2"
+    basis, factor = price_basis(fact.unit, f"demo price of {name!r}")
+    return float(fact.value) * factor, "USD/kg" if basis == "kg" else "USD/m^2"
 
 
 def _composition_note(name: str) -> tuple[dict[str, float], str]:
