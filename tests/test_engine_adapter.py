@@ -12,6 +12,7 @@ from formulas.tokens.operand import Error
 from udfs.engine import adapter
 from udfs.engine.adapter import SheetFunctionAdapter, from_engine, register, to_engine
 from udfs.sheet.errors import SheetError
+from udfs.sheet.registry import FUNCTIONS
 
 
 def test_engine_values_become_plain_cell_values():
@@ -36,7 +37,7 @@ def test_non_finite_results_become_num_errors():
     assert to_engine(np.float64(-np.inf)) is Error.errors["#NUM!"]
 
 
-def test_scalar_error_arguments_propagate_without_calling():
+def test_error_arguments_reach_the_function_as_in_excel():
     calls = []
 
     def spy(*args):
@@ -44,8 +45,32 @@ def test_scalar_error_arguments_propagate_without_calling():
         return 1.0
 
     f = SheetFunctionAdapter("CW_TEST_SPY", spy)
-    assert f(Error.errors["#DIV/0!"], 2.0) is Error.errors["#DIV/0!"]
-    assert calls == []
+    assert f(Error.errors["#DIV/0!"], 2.0) == 1.0
+    (args,) = calls
+    assert isinstance(args[0], SheetError) and args[0].code == "#DIV/0!" and args[1] == 2.0
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        (None, SheetError("#DIV/0!")),  # an empty required argument left of an error
+        (SheetError("#N/A"), None),
+        ("abc", SheetError("#N/A")),
+        (SheetError("#REF!"), -1.0),
+        (-1.0, SheetError("#REF!")),
+    ],
+)
+def test_the_leftmost_bad_argument_wins_as_with_the_add_in(cells):
+    """The engine gives the error the add-in gives in Excel for the same cells."""
+    sheet = FUNCTIONS["CW_CAPACITY"]
+    in_excel = sheet(*cells)
+    engine_values = [
+        sh.EMPTY if c is None else Error.errors[c.code] if isinstance(c, SheetError) else c
+        for c in cells
+    ]
+    got = SheetFunctionAdapter("CW_CAPACITY", sheet)(*engine_values)
+    assert isinstance(in_excel, SheetError)
+    assert got is Error.errors[in_excel.code]
 
 
 def test_ranges_arrive_as_2d_lists_with_none_for_empty_and_errors_as_elements():

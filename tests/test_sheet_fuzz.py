@@ -181,3 +181,47 @@ def test_fuzz_numpy_inputs(values: list[Any], dtype: Any) -> None:
     except (ValueError, TypeError):
         return
     _check_output(FUNCTIONS["CW_CHARGE_TO_MASS"](arr, "Cu", 2), PLANS["CW_CHARGE_TO_MASS"])
+
+
+ELEMENTWISE = [n for n in CATALOGUE_ORDER if PLANS[n].kind in (Kind.NUMBER, Kind.VALUE)]
+
+
+def _example_args(plan: Plan) -> list[Any]:
+    example = list(plan.example or ())
+    return [
+        example[i] if i < len(example) else (a.default if a.optional else 1.0)
+        for i, a in enumerate(plan.args)
+    ]
+
+
+def _same_cell(a: Any, b: Any) -> bool:
+    if isinstance(a, SheetError) or isinstance(b, SheetError):
+        return isinstance(a, SheetError) and isinstance(b, SheetError) and a.code == b.code
+    return type(a) is type(b) and a == b
+
+
+@pytest.mark.parametrize("name", ELEMENTWISE)
+@given(data=st.data())
+def test_fuzz_every_range_equals_its_cells(name: str, data: st.DataObject) -> None:
+    """A column of values in one argument gives, element by element, exactly what
+    the same formula filled down one cell at a time gives (as Excel computes it)."""
+    plan = PLANS[name]
+    func = FUNCTIONS[name]
+    args = _example_args(plan)
+    if not args:
+        return
+    i = data.draw(st.integers(0, len(args) - 1), label="argument")
+    column = data.draw(
+        st.lists(st.one_of(_plausible(plan, i), scalar_cells), min_size=2, max_size=5).filter(
+            lambda xs: all(not isinstance(x, list) for x in xs)
+        ),
+        label="column",
+    )
+    out = func(*args[:i], [[x] for x in column], *args[i + 1 :])
+    singles = [func(*args[:i], x, *args[i + 1 :]) for x in column]
+    if not isinstance(out, list):  # one error for the whole range (e.g. its shape)
+        assert isinstance(out, SheetError), out
+        return
+    assert [len(r) for r in out] == [1] * len(column), out
+    for row, single in zip(out, singles, strict=True):
+        assert _same_cell(row[0], single), (name, i, column, row[0], single)

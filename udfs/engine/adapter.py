@@ -194,7 +194,7 @@ class SheetFunctionAdapter:
         return f"SheetFunctionAdapter({self.name})"
 
     def call_values(self, *values: Any) -> Any:
-        """Call with plain cell values (no error among them) and give the engine's value.
+        """Call with plain cell values (errors as SheetError) and give the engine's value.
 
         Calling the adapter with one-cell engine values that are numbers (``int``
         or ``float``, not ``bool``) is the same as calling this with those numbers.
@@ -211,9 +211,8 @@ class SheetFunctionAdapter:
             values = [_argument(a) for a in args]
         except RangeValueError:
             return sh.NONE  # the engine is still compiling: no value yet
-        for v in values:
-            if isinstance(v, SheetError):
-                return _error(v.code)
+        # error values from other cells go in as SheetError: the function decides, as
+        # in Excel with the add-in (the leftmost bad argument, error or not, wins)
         return self.call_values(*values)
 
 

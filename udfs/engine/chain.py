@@ -44,7 +44,7 @@ from formulas.functions.operators import OPERATORS
 from .adapter import MAX_ROUND_DIGITS, ROUNDING, SheetFunctionAdapter
 from .scalar_ops import element_parts
 
-__all__ = ["BAIL", "Chain", "compile_chain"]
+__all__ = ["BAIL", "BailError", "Chain", "compile_chain", "step_value"]
 
 BAIL: Any = object()  # evaluate this cell the usual way
 
@@ -112,99 +112,109 @@ def _minmax(func: Any) -> Callable[..., Any] | None:
     return None
 
 
+class BailError(Exception):
+    """This value is not one the chain reproduces: evaluate the cell the usual way."""
+
+
+Step = tuple[int, tuple[int, ...], int, Any, Any, bool]  # out, ins, mode, fn, element, empty->0
+
+
+def step_value(step: Step, args: list[Any]) -> Any:
+    """One step's value from its arguments' values, as the engine gives it; raises BailError."""
+    _, _, mode, fn, element, empty_to_zero = step
+    if mode in (_ARITH, _COMPARE):
+        x, y = args
+        tx, ty = type(x), type(y)
+        if (tx is float or tx is int) and (ty is float or ty is int):
+            if mode == _COMPARE:
+                return fn(x, y)
+            if not (fn is _divide and y == 0):
+                r = fn(float(x), float(y))
+                if r - r == 0.0:  # finite
+                    return r
+    elif mode in (_NEGATE, _PERCENT):
+        x = args[0]
+        tx = type(x)
+        if tx is float or tx is int:
+            return -float(x) if mode == _NEGATE else float(x) / 100.0
+    elif mode == _IFERROR:
+        x = args[0]
+        tx = type(x)
+        if tx is float or tx is int:  # not an error: the value itself
+            return x
+    elif mode == _IF:
+        cond = args[0]
+        tc = type(cond)
+        if tc is bool or tc is float or tc is int:  # not text, an error or empty
+            r = args[1] if cond else (args[2] if len(args) > 2 else False)
+            return 0 if r is _EMPTY else r
+    elif mode == _ROUND:
+        x, d = args
+        tx, td = type(x), type(d)
+        if (tx is float or tx is int) and (td is float or td is int):
+            d = float(d)
+            if abs(d) <= MAX_ROUND_DIGITS:
+                r = fn(float(x), d)
+                if type(r) is float and r - r == 0.0:
+                    return r
+    elif mode == _SHEET:
+        call = fn.call_values  # numbers need no conversion from engine values
+        for v in args:
+            tv = type(v)
+            if tv is not float and tv is not int:
+                call = fn
+                break
+        r = call(*args)
+        if isinstance(r, np.ndarray) or r is sh.NONE:
+            raise BailError
+        return r
+    elif mode == _MINMAX:
+        for v in args:
+            tv = type(v)
+            if tv is not float and tv is not int:
+                raise BailError
+        return fn(args) if args else 0
+    if empty_to_zero:
+        args = [0 if v is _EMPTY else v for v in args]
+    r = element(args)
+    if isinstance(r, (list, tuple, np.ndarray)):
+        raise BailError
+    return r
+
+
 class Chain:
     """The steps of one formula template on plain values (see module doc)."""
 
-    __slots__ = ("root_two_d", "steps")
+    __slots__ = ("const_slots", "ref_slots", "root_two_d", "steps")
 
-    def __init__(self, steps: list[tuple[Any, ...]], root_two_d: bool | None):
+    def __init__(
+        self,
+        steps: list[Step],
+        root_two_d: bool | None,
+        const_slots: tuple[int, ...] = (),
+        ref_slots: tuple[int, ...] = (),
+    ):
         self.steps = steps
         self.root_two_d = root_two_d  # None: the root is a sheet function's or MAX's value
+        self.const_slots = const_slots  # slots the steps read that hold constants
+        self.ref_slots = ref_slots  # slots of one-cell references
 
     def run(self, consts: Sequence[Any], refs: Sequence[Any], cells: Mapping[Any, Any]) -> Any:
         """The formula's value as the usual evaluation gives it, or :data:`BAIL`."""
         try:
-            return self._run(consts, refs, cells)
-        except Exception:  # e.g. float() of an int too large: the usual way decides
+            vals = list(consts)
+            for b in refs:
+                got = cells.get(b.key)
+                vals[b.slot] = _EMPTY if got is None else got[0, 0]
+            for step in self.steps:
+                vals[step[0]] = step_value(step, [vals[i] for i in step[1]])
+            return self.box(vals[self.steps[-1][0]])
+        except Exception:  # BailError, or e.g. float() of an int too large: the usual way decides
             return BAIL
 
-    def _run(self, consts: Sequence[Any], refs: Sequence[Any], cells: Mapping[Any, Any]) -> Any:
-        vals = list(consts)
-        for b in refs:
-            got = cells.get(b.key)
-            vals[b.slot] = _EMPTY if got is None else got[0, 0]
-        r: Any = None
-        for out, ins, mode, fn, element, empty_to_zero in self.steps:
-            if mode in (_ARITH, _COMPARE):
-                x, y = vals[ins[0]], vals[ins[1]]
-                tx, ty = type(x), type(y)
-                if (tx is float or tx is int) and (ty is float or ty is int):
-                    if mode == _COMPARE:
-                        vals[out] = fn(x, y)
-                        continue
-                    if not (fn is _divide and y == 0):
-                        r = fn(float(x), float(y))
-                        if r - r == 0.0:  # finite
-                            vals[out] = r
-                            continue
-            elif mode in (_NEGATE, _PERCENT):
-                x = vals[ins[0]]
-                tx = type(x)
-                if tx is float or tx is int:
-                    vals[out] = -float(x) if mode == _NEGATE else float(x) / 100.0
-                    continue
-            elif mode == _IFERROR:
-                x = vals[ins[0]]
-                tx = type(x)
-                if tx is float or tx is int:  # not an error: the value itself
-                    vals[out] = x
-                    continue
-            elif mode == _IF:
-                cond = vals[ins[0]]
-                tc = type(cond)
-                if tc is bool or tc is float or tc is int:  # not text, an error or empty
-                    r = vals[ins[1]] if cond else (vals[ins[2]] if len(ins) > 2 else False)
-                    vals[out] = 0 if r is _EMPTY else r
-                    continue
-            elif mode == _ROUND:
-                x, d = vals[ins[0]], vals[ins[1]]
-                tx, td = type(x), type(d)
-                if (tx is float or tx is int) and (td is float or td is int):
-                    d = float(d)
-                    if abs(d) <= MAX_ROUND_DIGITS:
-                        r = fn(float(x), d)
-                        if type(r) is float and r - r == 0.0:
-                            vals[out] = r
-                            continue
-            elif mode == _SHEET:
-                elems = [vals[i] for i in ins]
-                call = fn.call_values  # numbers need no conversion from engine values
-                for v in elems:
-                    tv = type(v)
-                    if tv is not float and tv is not int:
-                        call = fn
-                        break
-                r = call(*elems)
-                if isinstance(r, np.ndarray) or r is sh.NONE:
-                    return BAIL
-                vals[out] = r
-                continue
-            elif mode == _MINMAX:
-                elems = [vals[i] for i in ins]
-                for v in elems:
-                    tv = type(v)
-                    if tv is not float and tv is not int:
-                        return BAIL
-                vals[out] = fn(elems) if elems else 0
-                continue
-            elems = [vals[i] for i in ins]
-            if empty_to_zero:
-                elems = [0 if v is _EMPTY else v for v in elems]
-            r = element(elems)
-            if isinstance(r, (list, tuple, np.ndarray)):
-                return BAIL
-            vals[out] = r
-        value = vals[self.steps[-1][0]]
+    def box(self, value: Any) -> Any:
+        """The root value as the engine returns it (a (1, 1) or 0-d array after an
+        element-wise step, the plain value after a sheet function or MAX/MIN)."""
         if self.root_two_d is None:
             return value
         if self.root_two_d:
@@ -236,7 +246,8 @@ def compile_chain(
         if not (c is _EMPTY or isinstance(c, _CONST_TYPES)):
             return None
         two_d[i] = False
-    steps: list[tuple[Any, ...]] = []
+    steps: list[Step] = []
+    two_d_steps: list[int] = []  # slots the steps write
     root_two_d: bool | None = None
     for out, func, ins, kind in program:
         if any(i not in two_d for i in ins):
@@ -255,10 +266,12 @@ def compile_chain(
             if arity != len(ins):
                 mode, op = _ELEMENT, None
             steps.append((out, ins, mode, op, element, empty_to_zero))
+            two_d_steps.append(out)
             two_d[out] = any(two_d[i] for i in ins)
             root_two_d = two_d[out]
         elif isinstance(func, SheetFunctionAdapter):
             steps.append((out, ins, _SHEET, func, None, False))
+            two_d_steps.append(out)
             two_d[out] = False
             root_two_d = None
         else:
@@ -266,6 +279,13 @@ def compile_chain(
             if pick is None:
                 return None
             steps.append((out, ins, _MINMAX, pick, None, False))
+            two_d_steps.append(out)
             two_d[out] = False
             root_two_d = None
-    return Chain(steps, root_two_d)
+    consts_read = tuple(sorted({i for step in steps for i in step[1]} - set(two_d_steps)))
+    return Chain(
+        steps,
+        root_two_d,
+        tuple(i for i in consts_read if i not in ref_slots),
+        tuple(sorted(ref_slots)),
+    )

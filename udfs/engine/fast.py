@@ -42,6 +42,7 @@ templates.
 
 from __future__ import annotations
 
+import functools
 import re
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -58,6 +59,7 @@ from udfs.sheet.errors import SheetError
 
 from .adapter import SheetFunctionAdapter, from_engine
 from .aggregates import aggregate_for
+from .batch import Batch, schedule
 from .chain import BAIL, Chain, compile_chain
 from .scalar_ops import shortcut_for
 
@@ -262,6 +264,8 @@ class FastPlan:
 
     #: evaluate one-cell formulas on plain values where chain.py covers them (same results)
     use_chain = True
+    #: ... and filled-down columns of them together (batch.py; same results)
+    use_batches = True
 
     def __init__(self, book: Any):
         self._sheets = {ws.title.upper(): ws for ws in book.worksheets}
@@ -592,6 +596,13 @@ class FastPlan:
         for u in ordered:
             u.readers = sorted({id(r): r for r in u.readers}.values(), key=lambda r: r.order)
         self.units = ordered
+        #: depth of each unit (by order) in the dependency graph: units of equal depth
+        #: never depend on one another (batch.py evaluates them together)
+        self.depth: dict[int, int] = {u.order: 0 for u in ordered}
+        for u in ordered:
+            for r in u.readers:
+                self.depth[r.order] = max(self.depth[r.order], self.depth[u.order] + 1)
+        self._schedules: dict[int, list[Unit | Batch]] = {}
         # who reads an input cell (for warm runs): units with a reference covering it
         self._input_readers: dict[Key, set[int]] | None = None
 
@@ -628,13 +639,7 @@ class FastPlan:
         if tpl.chain is not None and self.use_chain:
             value = tpl.chain.run(unit.consts, unit.refs, cells)
             if value is not BAIL:
-                t = type(value)
-                if t is float or t is int or t is bool or t is str:  # _settle, inlined
-                    stored = np.empty((1, 1), object)
-                    stored[0, 0] = value
-                    cells[unit.key] = stored
-                else:
-                    cells[unit.key] = _settle(value, (1, 1), unit.rng)
+                self._store(cells, unit, value)
                 return
         regs = list(unit.consts)
         for b in unit.refs:
@@ -664,14 +669,43 @@ class FastPlan:
             for key, i, j in unit.cells():
                 cells[key] = stored[i : i + 1, j : j + 1] if i < rows and j < cols else _one(None)
 
+    @staticmethod
+    def _store(cells: dict[Key, np.ndarray], unit: Unit, value: Any) -> None:
+        """Store a one-cell unit's value as the engine stores it (``_settle``)."""
+        t = type(value)
+        if t is float or t is int or t is bool or t is str:  # _settle, inlined
+            stored = np.empty((1, 1), object)
+            stored[0, 0] = value
+            cells[unit.key] = stored
+        else:
+            cells[unit.key] = _settle(value, (1, 1), unit.rng)
+
+    def _run_all(self, units: list[Unit], cells: dict[Key, np.ndarray]) -> None:
+        """Evaluate ``units`` (in order) into ``cells``, filled-down columns together."""
+        with np.errstate(all="ignore"):
+            if not (self.use_batches and self.use_chain):
+                for unit in units:
+                    self._run(unit, cells)
+                return
+            # keyed by the list: self.units and the lists affected() caches live as long
+            schedule_ = self._schedules.get(id(units))
+            if schedule_ is None:
+                schedule_ = schedule(units, self.depth, lambda u: u.template.chain is not None)
+                self._schedules[id(units)] = schedule_
+            store = functools.partial(self._store, cells)
+            for item in schedule_:
+                if isinstance(item, Batch):
+                    for unit in item.run(cells, store):
+                        self._run(unit, cells)
+                else:
+                    self._run(item, cells)
+
     def evaluate(self, overrides: Mapping[Key, Any]) -> dict[Key, np.ndarray]:
         """Every cell's stored (1, 1) array after evaluating with ``overrides``."""
         if not overrides:
             if self._default is None:
                 cells = dict(self.constants)
-                with np.errstate(all="ignore"):
-                    for unit in self.units:
-                        self._run(unit, cells)
+                self._run_all(self.units, cells)
                 self._default = cells
             return self._default
         return self.runner(list(overrides), None)(list(overrides.values()))
@@ -726,9 +760,7 @@ class FastPlan:
             cells = dict(self.evaluate({}))
             for k, v in zip(keys, values, strict=True):
                 cells[k] = _one(v)
-            with np.errstate(all="ignore"):
-                for unit in units:
-                    self._run(unit, cells)
+            self._run_all(units, cells)
             return cells
 
         return run
