@@ -168,7 +168,8 @@ is not tested on either of those.
   unknown names give `#N/A` with the closest valid names.
 - **Errors** say which argument is wrong and what is allowed, e.g.
   `#NUM! ox_activity must be > 0 (got -0.1)`. In a range result only the bad elements are errors.
-  An error value arriving from another cell is passed on. The classic Windows add-in cannot
+  An error value arriving from another cell is passed on; when several arguments are bad, the
+  leftmost one decides, in Excel and in the headless engine alike. The classic Windows add-in cannot
   return real error values, so there the cell shows this text (test it with
   `=LEFT(A1,1)="#"`; IFERROR does not see it); the headless engine returns real error values
   (`#NUM!`, `#VALUE!`, `#N/A`) that IFERROR and propagation understand. A Python traceback
