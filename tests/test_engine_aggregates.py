@@ -53,7 +53,7 @@ def _same(name: str, args: list[Any]) -> None:
 
 
 @pytest.mark.parametrize("name", NAMES)
-@settings(max_examples=60, deadline=None)
+@settings(deadline=None)  # examples: the hypothesis profile (tests/conftest.py)
 @given(data=st.data())
 def test_shortcut_equals_the_engine_function(name, data):
     first = data.draw(grids())

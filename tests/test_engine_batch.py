@@ -127,7 +127,7 @@ column = st.lists(
 others = st.one_of(st.floats(-10, 10), st.sampled_from([0, 0.0, "2", None, True, 2**53 + 1]))
 
 
-@settings(max_examples=25, deadline=None)
+@settings(deadline=None)  # examples: the hypothesis profile (tests/conftest.py)
 @given(xs=column, data=st.data())
 def test_random_columns_equal_cell_by_cell(xs, data):
     ys = data.draw(st.lists(others, min_size=len(xs), max_size=len(xs)))

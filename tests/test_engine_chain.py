@@ -187,7 +187,7 @@ values = (
 )
 
 
-@settings(max_examples=150, deadline=None)
+@settings(deadline=None)  # examples: the hypothesis profile (tests/conftest.py)
 @given(x=values, y=values)
 def test_random_inputs_equal_the_step_by_step_results(small_plan, x, y):
     ov = {("IN", 1, 1): x, ("IN", 2, 1): y}

@@ -32,7 +32,7 @@ import schedula as sh
 from udfs.sheet.adapter import Kind
 
 from .adapter import from_engine, to_engine
-from .chain import _ARITH, _COMPARE, _NEGATE, _PERCENT, _SHEET, Chain, _divide, step_value
+from .chain import ARITH, COMPARE, NEGATE, PERCENT, SHEET, Chain, divide, step_value
 
 __all__ = ["MIN_BATCH", "Batch", "schedule"]
 
@@ -128,26 +128,26 @@ def _step(
     step: Any, columns: list[list[Any]], same: list[bool], n: int, dead: set[int]
 ) -> list[Any]:
     mode, fn = step[2], step[3]
-    if mode == _SHEET:
+    if mode == SHEET:
         return _sheet_step(step, columns, same, n, dead)
-    if mode not in (_ARITH, _COMPARE, _NEGATE, _PERCENT):
+    if mode not in (ARITH, COMPARE, NEGATE, PERCENT):
         return _one_by_one(step, columns, n, dead)
     maybe = [_floats(c) for c in columns]
     arrays = [a for a in maybe if a is not None]
     if len(arrays) != len(maybe):
         return _one_by_one(step, columns, n, dead)
     with np.errstate(all="ignore"):
-        if mode == _NEGATE:
+        if mode == NEGATE:
             result = -arrays[0]
-        elif mode == _PERCENT:
+        elif mode == PERCENT:
             result = arrays[0] / 100.0
         else:
             result = fn(arrays[0], arrays[1])
     out: list[Any] = result.tolist()
-    if mode == _COMPARE:
+    if mode == COMPARE:
         return out
     ok = np.isfinite(result)
-    if fn is _divide:
+    if fn is divide:
         ok &= arrays[1] != 0
     # #NUM!, #DIV/0!: the element function decides
     return _each(step, columns, np.flatnonzero(~ok).tolist(), out, dead)

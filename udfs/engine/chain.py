@@ -6,8 +6,8 @@ For a one-cell formula whose steps are all element-wise (operators, IF, ROUND
 ... -- the functions :func:`udfs.engine.scalar_ops.shortcut_for` knows), our
 ``CW_`` functions, and MAX or MIN, :func:`compile_chain` builds a :class:`Chain`
 that keeps each step's single value as it is and builds the array only for the
-formula's result, exactly as the step would have. Two further shortcuts give
-the engine's own results without calling it:
+formula's result, exactly as the step would have (:func:`step_value` is one
+step). These shortcuts give the engine's own results without calling it:
 
 * ``+ - * / %`` and unary minus on two numbers (``int`` or ``float``, not
   ``bool``) are computed as the engine computes them -- both converted with
@@ -21,13 +21,16 @@ the engine's own results without calling it:
 * MAX and MIN of single numbers are Python's ``max`` and ``min`` of them in
   order, as the engine's own code does.
 
-Anything else -- a text, an empty cell, an error value, a step that raises or
-returns an array -- makes :meth:`Chain.run` return :data:`BAIL`, and the caller
-evaluates the cell the usual way. Tests compare both ways on edge values.
+Any other value (text, an empty cell, an error) goes to the engine's own
+element function. MAX or MIN of anything but numbers, a step that raises and a
+step that returns an array make :meth:`Chain.run` return :data:`BAIL`, and the
+caller evaluates the cell the usual way. Tests compare both ways on edge values.
 
 >>> import operator
->>> NATIVE_BINARY[operator.add.__name__](2.0, 3)
+>>> step_value((0, (1, 2), ARITH, operator.add, None, True), [2.0, 3])
 5.0
+>>> step_value((0, (1, 2), MINMAX, max, None, False), [2.0, 7])
+7
 """
 
 from __future__ import annotations
@@ -49,24 +52,17 @@ __all__ = ["BAIL", "BailError", "Chain", "compile_chain", "step_value"]
 BAIL: Any = object()  # evaluate this cell the usual way
 
 _EMPTY = sh.EMPTY
-_EMPTY11 = np.empty((1, 1), object)
-_EMPTY11[0, 0] = _EMPTY
 
 # step modes
-_ELEMENT, _ARITH, _COMPARE, _NEGATE, _PERCENT, _SHEET, _MINMAX, _IFERROR, _IF, _ROUND = range(10)
+ELEMENT, ARITH, COMPARE, NEGATE, PERCENT, SHEET, MINMAX, IFERROR, IF, ROUND = range(10)
 
 
-def _divide(x: float, y: float) -> float:
+def divide(x: float, y: float) -> float:
+    """``x / y``: a function of its own, so that a division step is recognised."""
     return x / y
 
 
-NATIVE_BINARY: dict[str, Callable[[float, float], Any]] = {
-    "add": operator.add,
-    "sub": operator.sub,
-    "mul": operator.mul,
-    "truediv": _divide,
-}
-_ARITH_OPS = {"+": operator.add, "-": operator.sub, "*": operator.mul, "/": _divide}
+_ARITH_OPS = {"+": operator.add, "-": operator.sub, "*": operator.mul, "/": divide}
 _COMPARE_OPS = {
     "=": operator.eq,
     "<>": operator.ne,
@@ -81,21 +77,21 @@ _CONST_TYPES = (float, int, bool, str, XlError)
 def _native(func: Any) -> tuple[int, Callable[..., Any] | None]:
     for sign, op in _ARITH_OPS.items():
         if func is OPERATORS[sign]:
-            return _ARITH, op
+            return ARITH, op
     for sign, op in _COMPARE_OPS.items():
         if func is OPERATORS[sign]:
-            return _COMPARE, op
+            return COMPARE, op
     if func is OPERATORS["U-"]:
-        return _NEGATE, None
+        return NEGATE, None
     if func is OPERATORS["%"]:
-        return _PERCENT, None
+        return PERCENT, None
     if func is _function("IFERROR"):
-        return _IFERROR, None
+        return IFERROR, None
     if func is _function("IF"):
-        return _IF, None
+        return IF, None
     if func in ROUNDING:
-        return _ROUND, ROUNDING[func]
-    return _ELEMENT, None
+        return ROUND, ROUNDING[func]
+    return ELEMENT, None
 
 
 def _function(name: str) -> Any:
@@ -122,33 +118,33 @@ Step = tuple[int, tuple[int, ...], int, Any, Any, bool]  # out, ins, mode, fn, e
 def step_value(step: Step, args: list[Any]) -> Any:
     """One step's value from its arguments' values, as the engine gives it; raises BailError."""
     _, _, mode, fn, element, empty_to_zero = step
-    if mode in (_ARITH, _COMPARE):
+    if mode in (ARITH, COMPARE):
         x, y = args
         tx, ty = type(x), type(y)
         if (tx is float or tx is int) and (ty is float or ty is int):
-            if mode == _COMPARE:
+            if mode == COMPARE:
                 return fn(x, y)
-            if not (fn is _divide and y == 0):
+            if not (fn is divide and y == 0):
                 r = fn(float(x), float(y))
                 if r - r == 0.0:  # finite
                     return r
-    elif mode in (_NEGATE, _PERCENT):
+    elif mode in (NEGATE, PERCENT):
         x = args[0]
         tx = type(x)
         if tx is float or tx is int:
-            return -float(x) if mode == _NEGATE else float(x) / 100.0
-    elif mode == _IFERROR:
+            return -float(x) if mode == NEGATE else float(x) / 100.0
+    elif mode == IFERROR:
         x = args[0]
         tx = type(x)
         if tx is float or tx is int:  # not an error: the value itself
             return x
-    elif mode == _IF:
+    elif mode == IF:
         cond = args[0]
         tc = type(cond)
         if tc is bool or tc is float or tc is int:  # not text, an error or empty
             r = args[1] if cond else (args[2] if len(args) > 2 else False)
             return 0 if r is _EMPTY else r
-    elif mode == _ROUND:
+    elif mode == ROUND:
         x, d = args
         tx, td = type(x), type(d)
         if (tx is float or tx is int) and (td is float or td is int):
@@ -157,7 +153,7 @@ def step_value(step: Step, args: list[Any]) -> Any:
                 r = fn(float(x), d)
                 if type(r) is float and r - r == 0.0:
                     return r
-    elif mode == _SHEET:
+    elif mode == SHEET:
         call = fn.call_values  # numbers need no conversion from engine values
         for v in args:
             tv = type(v)
@@ -168,7 +164,7 @@ def step_value(step: Step, args: list[Any]) -> Any:
         if isinstance(r, np.ndarray) or r is sh.NONE:
             raise BailError
         return r
-    elif mode == _MINMAX:
+    elif mode == MINMAX:
         for v in args:
             tv = type(v)
             if tv is not float and tv is not int:
@@ -258,19 +254,19 @@ def compile_chain(
                 return None
             element, empty_to_zero = parts
             mode, op = _native(func)
-            arity = {_ARITH: 2, _COMPARE: 2, _NEGATE: 1, _PERCENT: 1, _IFERROR: 2, _ROUND: 2}.get(
+            arity = {ARITH: 2, COMPARE: 2, NEGATE: 1, PERCENT: 1, IFERROR: 2, ROUND: 2}.get(
                 mode, len(ins)
             )
-            if mode == _IF and len(ins) not in (2, 3):
+            if mode == IF and len(ins) not in (2, 3):
                 arity = -1
             if arity != len(ins):
-                mode, op = _ELEMENT, None
+                mode, op = ELEMENT, None
             steps.append((out, ins, mode, op, element, empty_to_zero))
             two_d_steps.append(out)
             two_d[out] = any(two_d[i] for i in ins)
             root_two_d = two_d[out]
         elif isinstance(func, SheetFunctionAdapter):
-            steps.append((out, ins, _SHEET, func, None, False))
+            steps.append((out, ins, SHEET, func, None, False))
             two_d_steps.append(out)
             two_d[out] = False
             root_two_d = None
@@ -278,7 +274,7 @@ def compile_chain(
             pick = _minmax(func)
             if pick is None:
                 return None
-            steps.append((out, ins, _MINMAX, pick, None, False))
+            steps.append((out, ins, MINMAX, pick, None, False))
             two_d_steps.append(out)
             two_d[out] = False
             root_two_d = None
