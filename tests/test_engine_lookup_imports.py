@@ -148,6 +148,7 @@ def test_a_calculation_without_statistics_never_imports_scipy():
     assert got["loaded"] == []
     assert got["b2"] == 6.0
     lfp = Formula("LiFePO4").mass  # molar mass from molmass (IUPAC atomic weights)
+    # MAX, SUM and AVERAGE of the inputs 3 and 2 are 3, 5 and 2.5 (arithmetic)
     assert math.isclose(got["b1"], 3.0 + 5.0 + 2.5 + lfp, rel_tol=1e-4)
 
 
