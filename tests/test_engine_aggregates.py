@@ -100,3 +100,8 @@ TRICKY = [
 @pytest.mark.parametrize(("name", "args"), TRICKY, ids=lambda x: x if isinstance(x, str) else "")
 def test_summation_order_and_ties_equal_the_engine(name, args):
     _same(name, args)
+
+
+def test_a_number_too_large_for_a_float_gets_the_engines_answer():
+    _same("SUM", [_column(1.5, 10**400)])
+    _same("SUMPRODUCT", [_column(1.5, 10**400), _column(2.0, 1.0)])

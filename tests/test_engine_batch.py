@@ -20,6 +20,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from test_engine_chain import EDGES, _plan, _stored
 
+from udfs.engine import batch as batch_mod
 from udfs.engine import model as model_mod
 from udfs.engine.batch import MIN_BATCH, Batch, schedule
 from udfs.engine.fast import FastPlan, Key
@@ -149,3 +150,13 @@ def test_warm_runs_equal_the_full_engine(monkeypatch):
         assert {k: (type(x), x) for k, x in warm.items()} == {
             k: (type(x), x) for k, x in want.items()
         }
+
+
+def test_a_batch_that_fails_hands_every_cell_back(plan, monkeypatch):
+    def broken(*args: Any) -> Any:
+        raise RuntimeError("unforeseen")
+
+    monkeypatch.setattr(batch_mod, "_step", broken)
+    plan._schedules.clear()
+    _same(_evaluate(plan, "batches"), _evaluate(plan, "cells"))
+    plan._schedules.clear()

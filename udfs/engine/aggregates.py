@@ -103,8 +103,21 @@ def _table() -> dict[Any, Aggregate]:
         ("MIN", _extreme(min)),
         ("SUMPRODUCT", _sumproduct),
     ):
-        out[functions[name]] = shortcut
+        out[functions[name]] = _guarded(shortcut)
     return out
+
+
+def _guarded(shortcut: Aggregate) -> Aggregate:
+    """The shortcut, or the engine's function if the shortcut fails (e.g. an int too
+    large for a float): the engine then gives its own answer."""
+
+    def guarded(func: Callable[..., Any], args: list[Any]) -> Any:
+        try:
+            return shortcut(func, args)
+        except Exception:
+            return func(*args)
+
+    return guarded
 
 
 _TABLE: dict[Any, Aggregate] | None = None

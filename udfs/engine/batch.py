@@ -73,7 +73,14 @@ class Batch:
             self.refs.append((bound.slot, keys, all(k == keys[0] for k in keys)))
 
     def run(self, cells: Mapping[Any, Any], store: Callable[[Any, Any], None]) -> list[Any]:
-        """Evaluate; ``store(unit, value)`` each result; return the cells to evaluate alone."""
+        """Evaluate; ``store(unit, value)`` each result; return the cells to evaluate alone
+        (all of them if anything unforeseen goes wrong: the usual way then decides)."""
+        try:
+            return self._run(cells, store)
+        except Exception:
+            return list(self.units)
+
+    def _run(self, cells: Mapping[Any, Any], store: Callable[[Any, Any], None]) -> list[Any]:
         n = len(self.units)
         vals: dict[int, list[Any]] = {}
         same: dict[int, bool] = {}
