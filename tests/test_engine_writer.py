@@ -105,31 +105,43 @@ def test_full_calc_on_load_is_removed(tmp_path):
     assert b"fullCalcOnLoad" not in zipfile.ZipFile(out).read("xl/workbook.xml")
 
 
-def _with_calc_chain(src, dst):
-    """Add a calcChain part (as Excel writes one) to an openpyxl-made package."""
+def _repack(src, dst, replace, extra):
+    """Copy package ``src`` to ``dst``: in part p, ``replace[p] = (old, new)`` bytes;
+    then add the ``extra`` parts."""
     zin = zipfile.ZipFile(src)
     with zipfile.ZipFile(dst, "w", zipfile.ZIP_DEFLATED) as zout:
         for name in zin.namelist():
             data = zin.read(name)
-            if name == "[Content_Types].xml":
-                data = data.replace(
-                    b"</Types>",
-                    b'<Override PartName="/xl/calcChain.xml" ContentType="application/'
-                    b'vnd.openxmlformats-officedocument.spreadsheetml.calcChain+xml"/></Types>',
-                )
-            if name == "xl/_rels/workbook.xml.rels":
-                data = data.replace(
-                    b"</Relationships>",
-                    b'<Relationship Id="rId99" Type="http://schemas.openxmlformats.org/'
-                    b'officeDocument/2006/relationships/calcChain" Target="calcChain.xml"/>'
-                    b"</Relationships>",
-                )
+            if name in replace:
+                data = data.replace(*replace[name])
             zout.writestr(name, data)
-        zout.writestr(
-            "xl/calcChain.xml",
-            '<calcChain xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
-            '<c r="A2" i="1"/><c r="A3"/></calcChain>',
-        )
+        for name, data in extra.items():
+            zout.writestr(name, data)
+
+
+def _with_calc_chain(src, dst):
+    """Add a calcChain part (as Excel writes one) to an openpyxl-made package."""
+    _repack(
+        src,
+        dst,
+        {
+            "[Content_Types].xml": (
+                b"</Types>",
+                b'<Override PartName="/xl/calcChain.xml" ContentType="application/'
+                b'vnd.openxmlformats-officedocument.spreadsheetml.calcChain+xml"/></Types>',
+            ),
+            "xl/_rels/workbook.xml.rels": (
+                b"</Relationships>",
+                b'<Relationship Id="rId99" Type="http://schemas.openxmlformats.org/'
+                b'officeDocument/2006/relationships/calcChain" Target="calcChain.xml"/>'
+                b"</Relationships>",
+            ),
+        },
+        {
+            "xl/calcChain.xml": '<calcChain xmlns="http://schemas.openxmlformats.org/'
+            'spreadsheetml/2006/main"><c r="A2" i="1"/><c r="A3"/></calcChain>',
+        },
+    )
 
 
 @pytest.mark.parametrize(("mode", "kept"), [("all", True), ("portable", False), ("none", False)])
@@ -148,18 +160,10 @@ def test_calc_chain_goes_when_formulas_go(tmp_path, mode, kept):
 def test_macro_enabled_workbook_keeps_its_macros_unrun_and_needs_xlsm(tmp_path):
     plain = _book(tmp_path, chart=False)
     src = tmp_path / "macro.xlsm"
-    zin = zipfile.ZipFile(plain)
     vba = b"\x00fake-vba-project\x00"  # never executed; only copied
-    with zipfile.ZipFile(src, "w", zipfile.ZIP_DEFLATED) as zout:
-        for name in zin.namelist():
-            data = zin.read(name)
-            if name == "[Content_Types].xml":
-                data = data.replace(
-                    b"application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml",
-                    b"application/vnd.ms-excel.sheet.macroEnabled.main+xml",
-                )
-            zout.writestr(name, data)
-        zout.writestr("xl/vbaProject.bin", vba)
+    main = b"application/vnd.openxmlformats-officedocument.spreadsheetml.sheet.main+xml"
+    macro = b"application/vnd.ms-excel.sheet.macroEnabled.main+xml"
+    _repack(plain, src, {"[Content_Types].xml": (main, macro)}, {"xl/vbaProject.bin": vba})
     with pytest.raises(WorkbookError, match=r"macro-enabled: name the output \.xlsm"):
         calculate_file(src, tmp_path / "out.xlsx")
     report = calculate_file(src, tmp_path / "out.xlsm")

@@ -265,21 +265,7 @@ def test_damaged_sheet_xml():
 
 
 def test_external_links_are_reported_and_not_followed():
-    link = (
-        f'<externalLink xmlns="{MAIN}"><externalBook xmlns:r="{REL}" r:id="rId1"/></externalLink>'
-    )
-    link_rels = (
-        f'<Relationships xmlns="{PKG_REL}"><Relationship Id="rId1" Type="{REL}/externalLinkPath"'
-        ' Target="file:///C:/secret/prices.xlsx" TargetMode="External"/></Relationships>'
-    )
-    rows = '<row r="1"><c r="A1"><f>\'[1]Prices\'!B2*2</f></c></row>'
-    data = package(
-        sheet=sheet_xml(rows),
-        extra={
-            "xl/externalLinks/externalLink1.xml": link,
-            "xl/externalLinks/_rels/externalLink1.xml.rels": link_rels,
-        },
-    )
+    data = _external_link()
     rep = inspect_package(data, "linked.xlsx")
     assert rep.external_links == ["file:///C:/secret/prices.xlsx"]
     assert any("external links not followed" in n for n in rep.notes)

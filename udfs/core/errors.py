@@ -24,16 +24,22 @@ __all__ = [
     "ParseError",
     "ShapeError",
     "UnitError",
+    "show_value",
 ]
 
 
-def _show(value: Any) -> str:
+def show_value(value: Any, limit: int = 60) -> str:
+    """A value as a message shows it: floats to 6 digits, long texts cut to ``limit``.
+
+    >>> show_value(0.1 + 0.2), show_value("x" * 70, 10)
+    ('0.3', "'xxxxxxx...'")
+    """
     if isinstance(value, float):
         return f"{value:.6g}"
     if isinstance(value, str):
-        return repr(value) if len(value) <= 60 else repr(value[:57] + "...")
+        return repr(value) if len(value) <= limit else repr(value[: limit - 3] + "...")
     text = repr(value)
-    return text if len(text) <= 60 else text[:57] + "..."
+    return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
 class CellwrightError(ValueError):
@@ -51,7 +57,7 @@ class CellwrightError(ValueError):
     def describe(self) -> str:
         if self.detail:
             return f"{self.argument}: {self.detail}"
-        return f"{self.argument} must be {self.allowed} (got {_show(self.value)})"
+        return f"{self.argument} must be {self.allowed} (got {show_value(self.value)})"
 
 
 class InputError(CellwrightError):
@@ -79,7 +85,7 @@ class NotFoundError(CellwrightError):
         hint = (
             f"; did you mean {', '.join(repr(s) for s in self.suggestions)}?" if suggestions else ""
         )
-        super().__init__(argument, value, detail=f"unknown {kind} {_show(value)}{hint}")
+        super().__init__(argument, value, detail=f"unknown {kind} {show_value(value)}{hint}")
 
 
 class ParseError(CellwrightError):

@@ -193,19 +193,6 @@ class SheetFunctionAdapter:
     def __repr__(self) -> str:
         return f"SheetFunctionAdapter({self.name})"
 
-    def call_values(self, *values: Any) -> Any:
-        """Call with plain cell values (errors as SheetError) and give the engine's value.
-
-        Calling the adapter with one-cell engine values that are numbers (``int``
-        or ``float``, not ``bool``) is the same as calling this with those numbers.
-        """
-        try:
-            result = self.func(*values)
-        except Exception as exc:  # a sheet function must not raise; never let it escape
-            _remember(self.name, f"#VALUE! {type(exc).__name__}: {exc}")
-            return _error("#VALUE!")
-        return to_engine(result, self.name)
-
     def __call__(self, *args: Any) -> Any:
         try:
             values = [_argument(a) for a in args]
@@ -213,7 +200,12 @@ class SheetFunctionAdapter:
             return sh.NONE  # the engine is still compiling: no value yet
         # error values from other cells go in as SheetError: the function decides, as
         # in Excel with the add-in (the leftmost bad argument, error or not, wins)
-        return self.call_values(*values)
+        try:
+            result = self.func(*values)
+        except Exception as exc:  # a sheet function must not raise; never let it escape
+            _remember(self.name, f"#VALUE! {type(exc).__name__}: {exc}")
+            return _error("#VALUE!")
+        return to_engine(result, self.name)
 
 
 def sheet_functions() -> dict[str, Callable[..., Any]]:

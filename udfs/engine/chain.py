@@ -17,7 +17,6 @@ step). These shortcuts give the engine's own results without calling it:
 * IFERROR of a number is that number; IF with a number or TRUE/FALSE picks;
 * ROUND, ROUNDUP and ROUNDDOWN of two numbers call the engine's own rounding of
   the two floats when the digits are in range and the result is finite;
-* our ``CW_`` functions of numbers skip the engine-value conversions;
 * MAX and MIN of single numbers are Python's ``max`` and ``min`` of them in
   order, as the engine's own code does.
 
@@ -154,13 +153,7 @@ def step_value(step: Step, args: list[Any]) -> Any:
                 if type(r) is float and r - r == 0.0:
                     return r
     elif mode == SHEET:
-        call = fn.call_values  # numbers need no conversion from engine values
-        for v in args:
-            tv = type(v)
-            if tv is not float and tv is not int:
-                call = fn
-                break
-        r = call(*args)
+        r = fn(*args)
         if isinstance(r, np.ndarray) or r is sh.NONE:
             raise BailError
         return r

@@ -61,6 +61,7 @@ from .adapter import SheetFunctionAdapter, from_engine
 from .aggregates import aggregate_for
 from .batch import Batch, schedule
 from .chain import BAIL, Chain, compile_chain
+from .refs import col_index, col_letters
 from .scalar_ops import shortcut_for
 
 __all__ = ["FastPlan", "FastRunError", "Key", "NotCoveredError"]
@@ -90,21 +91,6 @@ class FastRunError(Exception):
     """A function raised (or gave no value) while running: use the full engine."""
 
 
-def _letters(n: int) -> str:
-    out = ""
-    while n > 0:
-        n, rem = divmod(n - 1, 26)
-        out = chr(65 + rem) + out
-    return out
-
-
-def _col(letters: str) -> int:
-    n = 0
-    for ch in letters.upper():
-        n = n * 26 + ord(ch) - 64
-    return n
-
-
 def relative_key(
     text: str, row: int, col: int
 ) -> tuple[str, list[tuple[bool, bool]], tuple[str, ...]]:
@@ -126,7 +112,7 @@ def relative_key(
         if m.group(2) is None:
             return m.group(0)
         abs_c, abs_r = bool(m.group(1)), bool(m.group(3))
-        c, r = _col(m.group(2)), int(m.group(4))
+        c, r = col_index(m.group(2)), int(m.group(4))
         flags.append((abs_r, abs_c))
         rr = f"R{r}" if abs_r else f"R[{r - row}]"
         cc = f"C{c}" if abs_c else f"C[{c - col}]"
@@ -194,8 +180,8 @@ class _Bound:
 
     @property
     def name(self) -> str:
-        a = f"{_letters(self.c1)}{self.r1}"
-        b = "" if self.single else f":{_letters(self.c2)}{self.r2}"
+        a = f"{col_letters(self.c1)}{self.r1}"
+        b = "" if self.single else f":{col_letters(self.c2)}{self.r2}"
         return f"'[{INTERNAL_BOOK}]{self.sheet}'!{a}{b}"
 
 
@@ -345,7 +331,7 @@ class FastPlan:
                 if dtype == "f":
                     text = value if isinstance(value, str) else getattr(value, "text", None)
                     if not isinstance(text, str):
-                        raise NotCoveredError(f"formula object at {sheet}!{_letters(c)}{r}")
+                        raise NotCoveredError(f"formula object at {sheet}!{col_letters(c)}{r}")
                     text = text[1:] if text[:2] == "==" else text
                     span = arrays.get(key, (r, c, r, c))
                     self._add_unit(sheet, span, text)
@@ -395,8 +381,8 @@ class FastPlan:
                 self._templates[exact] = tpl
                 if tpl.numbers is not None:
                     self._templates[general] = tpl
-        a = f"{_letters(c1)}{r1}"
-        ref_text = a if single else f"{a}:{_letters(c2)}{r2}"
+        a = f"{col_letters(c1)}{r1}"
+        ref_text = a if single else f"{a}:{col_letters(c2)}{r2}"
         node = f"'[{INTERNAL_BOOK}]{sheet}'!{ref_text}"
         rng = Ranges().push(node).ranges[0]
         unit = Unit(node, sheet, r1, c1, r2, c2, tpl, refs, rng, consts or tpl.consts)
@@ -439,8 +425,8 @@ class FastPlan:
     ) -> tuple[_Template, bool]:
         """Parse ``text`` at ``span`` into a template; True if other cells may share it."""
         r1, c1, r2, c2 = span
-        a = f"{_letters(c1)}{r1}"
-        crd = a if (r1, c1) == (r2, c2) else f"{a}:{_letters(c2)}{r2}"
+        a = f"{col_letters(c1)}{r1}"
+        crd = a if (r1, c1) == (r2, c2) else f"{a}:{col_letters(c2)}{r2}"
         ctx = dict(self._ctx_base, sheet=sheet)
         try:
             rng = Ranges().push(crd, context=ctx, raise_anchor=False).ranges[0]
@@ -671,14 +657,8 @@ class FastPlan:
 
     @staticmethod
     def _store(cells: dict[Key, np.ndarray], unit: Unit, value: Any) -> None:
-        """Store a one-cell unit's value as the engine stores it (``_settle``)."""
-        t = type(value)
-        if t is float or t is int or t is bool or t is str:  # _settle, inlined
-            stored = np.empty((1, 1), object)
-            stored[0, 0] = value
-            cells[unit.key] = stored
-        else:
-            cells[unit.key] = _settle(value, (1, 1), unit.rng)
+        """Store a one-cell unit's value as the engine stores it."""
+        cells[unit.key] = _settle(value, (1, 1), unit.rng)
 
     def _run_all(self, units: list[Unit], cells: dict[Key, np.ndarray]) -> None:
         """Evaluate ``units`` (in order) into ``cells``, filled-down columns together."""
@@ -786,8 +766,8 @@ def _span(ref: str) -> tuple[int, int, int, int]:
     m = re.fullmatch(r"\$?([A-Za-z]{1,3})\$?([0-9]+)(?::\$?([A-Za-z]{1,3})\$?([0-9]+))?", ref)
     if not m:
         raise NotCoveredError(f"array formula range {ref!r}")
-    c1, r1 = _col(m.group(1)), int(m.group(2))
-    c2, r2 = (_col(m.group(3)), int(m.group(4))) if m.group(3) else (c1, r1)
+    c1, r1 = col_index(m.group(1)), int(m.group(2))
+    c2, r2 = (col_index(m.group(3)), int(m.group(4))) if m.group(3) else (c1, r1)
     return r1, c1, r2, c2
 
 

@@ -55,7 +55,7 @@ import time
 import types
 import warnings
 from collections import OrderedDict
-from collections.abc import Callable, Iterator, Mapping
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
 
@@ -782,11 +782,7 @@ class WorkbookModel:
             else:
                 values = self._full(dict(zip(keys, args, strict=True)))
             self._seen.add(keys)
-        inputs: dict[CellRef, CellValue] = {ref: v for ref, v in fast.values()}
-        values.update(inputs)
-        diags = list(self.static_diagnostics) + list(self._cycle_diagnostics)
-        diags += self._error_diagnostics(values)
-        return Evaluation(self, values, inputs, diags, time.perf_counter() - t0, compiled)
+        return self._evaluation(values, fast.values(), t0, compiled)
 
     def _fast_inputs(
         self, overrides: Mapping[CellRef | str, Override]
@@ -820,11 +816,9 @@ class WorkbookModel:
                 self._fast_cache = values
             return dict(values)
         values = dict(self._fast_cache)
-        unit_cells = self._unit_cells
         for unit in units:
-            for ref, key in unit_cells[unit.order]:
-                v = cells[key][0, 0]
-                values[ref] = v if type(v) is float else plain(v)  # a float is its own value
+            for ref, key in self._unit_cells[unit.order]:
+                values[ref] = plain(cells[key][0, 0])
         return values
 
     def _evaluate_fast(
@@ -845,7 +839,17 @@ class WorkbookModel:
             cells = plan.runner(keys, None)([given[k][1] for k in keys])
             values = self._fast_values(cells, plan.affected(keys, None))
             self._fast_seen.add(keys)
-        inputs: dict[CellRef, CellValue] = {ref: v for ref, v in given.values()}
+        return self._evaluation(values, given.values(), t0, compiled)
+
+    def _evaluation(
+        self,
+        values: dict[CellRef, CellValue],
+        given: Iterable[tuple[CellRef, Override]],
+        t0: float,
+        compiled: bool,
+    ) -> Evaluation:
+        """The evaluation of formula ``values`` with the ``given`` inputs set in."""
+        inputs: dict[CellRef, CellValue] = {ref: v for ref, v in given}
         values.update(inputs)
         diags = list(self.static_diagnostics) + list(self._cycle_diagnostics)
         diags += self._error_diagnostics(values)

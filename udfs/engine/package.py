@@ -14,6 +14,7 @@ goes through defusedxml (no DTD, no entities, no external resources).
 
 from __future__ import annotations
 
+import contextlib
 import io
 import posixpath
 import re
@@ -117,35 +118,35 @@ class Package:
     def open(self, part: str) -> IO[bytes]:
         return self.zip.open(part)
 
-    def xml(self, part: str) -> Element:
-        """Parse a (small) XML part with defusedxml."""
+    @contextlib.contextmanager
+    def _reading(self, part: str) -> Iterator[None]:
+        """Reading ``part``: entity declarations are hostile, anything unreadable damaged."""
         try:
-            raw = self.zip.read(part)
-        except (zipfile.BadZipFile, OSError, EOFError, RuntimeError, NotImplementedError) as exc:
-            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
-        try:
-            return fromstring(raw, forbid_dtd=True)
+            yield
         except DefusedXmlException as exc:
             raise HostileFileError(
                 self.name, f"{part} declares a DTD or entities ({exc})"
             ) from None
-        except ParseError as exc:
+        except (
+            ParseError,
+            zipfile.BadZipFile,
+            OSError,
+            EOFError,
+            RuntimeError,
+            NotImplementedError,
+        ) as exc:
             raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+
+    def xml(self, part: str) -> Element:
+        """Parse a (small) XML part with defusedxml."""
+        with self._reading(part):
+            return fromstring(self.zip.read(part), forbid_dtd=True)
 
     def iter_xml(self, part: str, events: tuple[str, ...] = ("end",)) -> Iterator[Element]:
         """Stream the elements of a part (defusedxml), yielding on ``events``."""
-        try:
-            with self.zip.open(part) as fh:
-                for _event, elem in iterparse(fh, events=events, forbid_dtd=True):
-                    yield elem
-        except DefusedXmlException as exc:
-            raise HostileFileError(
-                self.name, f"{part} declares a DTD or entities ({exc})"
-            ) from None
-        except ParseError as exc:
-            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
-        except (zipfile.BadZipFile, OSError, EOFError, RuntimeError, NotImplementedError) as exc:
-            raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+        with self._reading(part), self.zip.open(part) as fh:
+            for _event, elem in iterparse(fh, events=events, forbid_dtd=True):
+                yield elem
 
     def relationships(self, part: str) -> dict[str, tuple[str, str, str]]:
         """Relationships of ``part``: id -> (type suffix, target part, target mode)."""

@@ -27,7 +27,7 @@ from typing import Any, NamedTuple
 import numpy as np
 from numpy.typing import NDArray
 
-from ..core.errors import DomainError, InputError, ShapeError
+from ..core.errors import DomainError, InputError, ShapeError, show_value
 from ..core.validate import ANY
 from .args import Arg, Num
 from .errors import SheetError, incoming_error
@@ -58,12 +58,7 @@ def show(x: object) -> str:
     """A cell value as a message shows it."""
     if isinstance(x, (bool, np.bool_)):
         return "TRUE" if x else "FALSE"
-    if isinstance(x, float):
-        return f"{x:.6g}"
-    if isinstance(x, str):
-        return repr(x) if len(x) <= 40 else repr(x[:37] + "...")
-    text = repr(x)
-    return text if len(text) <= 40 else text[:37] + "..."
+    return show_value(x, 40)
 
 
 def _is_empty_token(x: str) -> bool:

@@ -72,6 +72,15 @@ class _Pairs:
         self.w.row += 1
 
 
+def yours_or_catalogue(given: str, material: str, prop: str) -> str:
+    """Formula: the user's value when the input cell is filled, else the catalogue's.
+
+    >>> yours_or_catalogue("in_separator_um", "in_separator", "thickness")
+    '=IF(ISBLANK(in_separator_um),CW_MATERIAL(in_separator,"thickness"),in_separator_um)'
+    """
+    return f'=IF(ISBLANK({given}),CW_MATERIAL({material},"{prop}"),{given})'
+
+
 def build_electrodes(wb: Workbook, refs: dict[str, str]) -> Worksheet:
     """Coatings, sheets and the cell's layer count, capacity, energy and volume."""
     ws = wb.create_sheet("Electrodes")
@@ -99,10 +108,8 @@ def build_electrodes(wb: Workbook, refs: dict[str, str]) -> Worksheet:
     p.row("formula", "Formula", '=CW_MATERIAL(in_cathode,"formula")',
           '=CW_MATERIAL(in_anode,"formula")', "", "catalogue", "lookup")
     p.row("q", "Specific capacity used",
-          '=IF(ISBLANK(in_cathode_mAh_g),CW_MATERIAL(in_cathode,"practical_capacity"),'
-          "in_cathode_mAh_g)",
-          '=IF(ISBLANK(in_anode_mAh_g),CW_MATERIAL(in_anode,"practical_capacity"),'
-          "in_anode_mAh_g)",
+          yours_or_catalogue("in_cathode_mAh_g", "in_cathode", "practical_capacity"),
+          yours_or_catalogue("in_anode_mAh_g", "in_anode", "practical_capacity"),
           "mAh/g", "your input, else the catalogue's practical capacity", "lookup", "0.0")
     p.row("v", "Average voltage", '=CW_MATERIAL(in_cathode,"average_voltage")',
           '=CW_MATERIAL(in_anode,"average_voltage")', "V", "catalogue", "lookup", "0.000")
@@ -174,10 +181,8 @@ def build_electrodes(wb: Workbook, refs: dict[str, str]) -> Worksheet:
     p.row("foil", "Current collector foil", "=in_cathode_foil", "=in_anode_foil", "name",
           "Inputs")
     p.row("t_foil", "Foil thickness",
-          '=IF(ISBLANK(in_cathode_foil_um),CW_MATERIAL(in_cathode_foil,"thickness"),'
-          "in_cathode_foil_um)",
-          '=IF(ISBLANK(in_anode_foil_um),CW_MATERIAL(in_anode_foil,"thickness"),'
-          "in_anode_foil_um)",
+          yours_or_catalogue("in_cathode_foil_um", "in_cathode_foil", "thickness"),
+          yours_or_catalogue("in_anode_foil_um", "in_anode_foil", "thickness"),
           "um", "your input, else the catalogue", "lookup", "0.0")
     p.row("rho_foil", "Foil density", '=CW_MATERIAL(in_cathode_foil,"density")',
           '=CW_MATERIAL(in_anode_foil,"density")', "g/cm3", "catalogue", "lookup", "0.00")
@@ -225,11 +230,11 @@ def build_electrodes(wb: Workbook, refs: dict[str, str]) -> Worksheet:
         "rounded up (values within 1e-9 of a whole number count as that number)", fmt="0")
     val("sep", "Separator", "=in_separator", "name", "Inputs")
     val("t_sep", "Separator thickness",
-        '=IF(ISBLANK(in_separator_um),CW_MATERIAL(in_separator,"thickness"),in_separator_um)',
+        yours_or_catalogue("in_separator_um", "in_separator", "thickness"),
         "um", "your input, else the catalogue", "lookup", "0.0")
     val("eps_sep", "Separator porosity",
-        '=IF(ISBLANK(in_separator_porosity),CW_MATERIAL(in_separator,"porosity"),'
-        "in_separator_porosity)", "of volume", "your input, else the catalogue", "lookup", PCT)
+        yours_or_catalogue("in_separator_porosity", "in_separator", "porosity"),
+        "of volume", "your input, else the catalogue", "lookup", PCT)
     val("rho_sep", "Density of the separator polymer", '=CW_MATERIAL(in_separator,"density")',
         "g/cm3", "catalogue (the solid, not the porous film)", "lookup", "0.00")
     val("fp_sep", "Separator footprint",
