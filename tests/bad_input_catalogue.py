@@ -1,7 +1,7 @@
 """Generate docs/bad-inputs.md by running every case of the bad-input tables.
 
 The tables are tests/bad_inputs.py (BAD_INPUTS, RANGE_BAD_INPUTS,
-CLI_BAD_INPUTS) and HOSTILE_FILES in tests/test_hostile.py. Every response in
+CLI_BAD_INPUTS) and HOSTILE_FILES in tests/xlsx/test_hostile.py. Every response in
 the document is what the code returned when the document was generated; the
 tests named beside each row assert it, and tests/test_bad_input_catalogue.py
 fails when the committed document differs from a fresh run (stale).
@@ -38,6 +38,8 @@ ROOT = HERE.parent
 DOC = ROOT / "docs" / "bad-inputs.md"
 if str(HERE) not in sys.path:  # run as a script: the tables live beside it
     sys.path.insert(0, str(HERE))
+if str(HERE / "xlsx") not in sys.path:  # ... and the hostile files in tests/xlsx
+    sys.path.append(str(HERE / "xlsx"))
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
@@ -67,10 +69,10 @@ __all__ = [
     "show_value",
 ]
 
-SHEET_TEST = "tests/test_sheet_bad_inputs.py::test_bad_input_gives_its_error"
+SHEET_TEST = "tests/sheet/test_bad_inputs.py::test_bad_input_gives_its_error"
 RANGE_TEST = "tests/test_bad_input_catalogue.py::test_range_bad_input"
 CLI_TEST = "tests/test_cli.py::test_cli_bad_input_table"
-HOSTILE_TEST = "tests/test_hostile.py::test_hostile_file_through_calc"
+HOSTILE_TEST = "tests/xlsx/test_hostile.py::test_hostile_file_through_calc"
 
 
 class Row(NamedTuple):

@@ -18,7 +18,7 @@ import openpyxl
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from test_engine_chain import EDGES, _plan, _stored
+from test_chain import EDGES, _plan, _stored
 
 from udfs.engine import batch as batch_mod
 from udfs.engine import model as model_mod

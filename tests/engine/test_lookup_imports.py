@@ -34,7 +34,7 @@ from molmass import Formula
 import udfs.engine.adapter  # noqa: F401  (installs the engine's functions)
 from udfs.engine.lookup import LazyCells, xindex
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 ERR = Error.errors
 
 

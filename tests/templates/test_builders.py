@@ -23,7 +23,7 @@ from udfs.templates.__main__ import main as templates_main
 from udfs.templates.sizing_inputs import COMPONENTS, input_values, set_inputs, spec_inputs
 from udfs.templates.snapshot import diff_snapshots, reproducible_bytes, snapshot
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 COMMITTED = ROOT / "workbook_templates"
 
 SHEETS = {

@@ -10,7 +10,7 @@ import pytest
 from udfs.sheet import reference
 from udfs.sheet.registry import CATALOGUE_ORDER, PLANS
 
-README = Path(__file__).resolve().parents[1] / "README.md"
+README = Path(__file__).resolve().parents[2] / "README.md"
 
 
 def test_readme_block_is_current() -> None:

@@ -28,7 +28,7 @@ from udfs.engine.fast import FastPlan, relative_key
 from udfs.engine.model import WorkbookModel
 from udfs.engine.scalar_ops import shortcut_for
 
-TEMPLATES = sorted((Path(__file__).resolve().parents[1] / "workbook_templates").glob("*.xlsx"))
+TEMPLATES = sorted((Path(__file__).resolve().parents[2] / "workbook_templates").glob("*.xlsx"))
 ROWS = 40
 
 
