@@ -43,8 +43,8 @@ from openpyxl.workbook.defined_name import DefinedName
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from udfs.app.calc import calculate_file  # noqa: E402
 from udfs.engine import model as model_mod  # noqa: E402
-from udfs.engine.calc import calculate_file  # noqa: E402
 from udfs.engine.model import clear_cache, load_model  # noqa: E402
 
 ROWS = 295  # 5 formula columns x 295 rows + summary = about 1,500 formula cells
@@ -236,8 +236,10 @@ def startup(code: str) -> float:
     return statistics.median(run([sys.executable, "-c", code], cwd=ROOT) for _ in range(3))
 
 
-CALC_IMPORTS = "import udfs.cli, udfs.engine.model, udfs.engine.adapter as a; a.ensure_registered()"
-CORE_IMPORTS = "import udfs.cli, udfs.engine.sweep, udfs.core.sizing, udfs.demo"
+CALC_IMPORTS = (
+    "import udfs.cli, udfs.engine.model, udfs.engine.functions as a; a.ensure_registered()"
+)
+CORE_IMPORTS = "import udfs.cli, udfs.app.sweep, udfs.core.sizing, udfs.app.demo"
 
 
 def workbook_sweep(
@@ -378,7 +380,7 @@ def main() -> None:
     cases = [("bench, input used by every formula", ours, "Inputs!B1", "total_energy_Wh", 20)]
     cases.append(("bench, input used by one column", ours, "Inputs!B6", "average_count", 40))
     try:
-        from udfs.engine import templates
+        from udfs.app import templates
 
         made = templates.demo_workbook()
     except Exception as exc:  # the template builders are another module's work

@@ -52,7 +52,7 @@ from bad_inputs import (  # noqa: E402
     RangeBadInput,
 )
 
-from udfs.sheet.errors import SheetError  # noqa: E402
+from udfs.sheet.error_values import SheetError  # noqa: E402
 
 __all__ = [
     "CliResult",
@@ -221,7 +221,7 @@ def _child_run_hostile() -> None:
     """Child mode: run the jobs given on stdin, report JSON on the real stdout."""
     import resource
 
-    import udfs.engine.calc
+    import udfs.app.calc
     import udfs.engine.model  # noqa: F401
 
     jobs = json.loads(sys.stdin.read())
@@ -405,7 +405,7 @@ def render(rows: Iterable[Row]) -> str:
     """The Markdown document."""
     from test_hostile import HOSTILE_PEAK_RSS_MIB, HOSTILE_SECONDS
 
-    from udfs.engine import guard
+    from udfs.xlsx import guard
 
     rows = list(rows)
     sections: dict[str, list[Row]] = {}

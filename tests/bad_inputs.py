@@ -18,7 +18,7 @@ from __future__ import annotations
 
 from typing import Any, NamedTuple
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 
 
 class BadInput(NamedTuple):

@@ -16,7 +16,7 @@ from bad_input_catalogue import DOC, ROOT, catalogue_rows, range_response, rende
 from bad_inputs import BAD_INPUTS, CLI_BAD_INPUTS, RANGE_BAD_INPUTS, RangeBadInput
 
 from udfs.sheet.adapter import Kind
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, PLANS
 
 

@@ -17,8 +17,8 @@ import pytest
 from bad_input_catalogue import build_book
 
 from udfs.cli import main
-from udfs.engine.adapter import register
-from udfs.sheet.errors import SheetError
+from udfs.engine.functions import register
+from udfs.sheet.error_values import SheetError
 
 CAUTION = "Caution: results are estimates; follow the applicable standards, local codes"
 
@@ -211,7 +211,7 @@ def test_strict_turns_cell_errors_into_exit_1(capsys, tmp_path):
 
 
 def test_template_list_and_errors(capsys, tmp_path):
-    from udfs.engine.templates import available
+    from udfs.app.templates import available
 
     code, out, _ = call(capsys, "template", "--list")
     assert code == 0
@@ -227,18 +227,11 @@ def test_template_list_and_errors(capsys, tmp_path):
 
 
 def test_template_writes_and_refuses_to_overwrite(capsys, tmp_path):
-    from udfs.engine.templates import available
+    from udfs.app.templates import available
 
     names = sorted(available())
-    if not names:
-        pytest.skip("no templates yet")
     out = tmp_path / "t.xlsx"
-    try:
-        code, stdout, err = call(capsys, "template", names[0], "-o", out)
-    except Exception as exc:  # a template builder still being written
-        pytest.skip(f"template builder not ready: {exc}")
-    if code == 3:
-        pytest.skip(f"template builder not ready: {err}")
+    code, stdout, err = call(capsys, "template", names[0], "-o", out)
     assert code == 0, err
     assert CAUTION in stdout
     openpyxl.load_workbook(out)
@@ -250,15 +243,10 @@ def test_template_writes_and_refuses_to_overwrite(capsys, tmp_path):
 
 def test_demo_prints_the_bill_of_materials_with_caution(capsys, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
-    from udfs.engine import templates
-
-    monkeypatch.setattr(templates, "demo_template", lambda: None)
-    monkeypatch.setattr("udfs.cli._has_build_demo", lambda: False)
     code, out, err = call(capsys, "demo")
     assert code == 0, err
     assert "Bill of materials (demo data" in out and "qualified engineers" in out
-    code, _, err = call(capsys, "demo", "-o", tmp_path / "d.xlsx")
-    assert code == 1 and "needs the cell-sizing template" in err
+    assert (tmp_path / "cellwright-demo.xlsx").is_file()
 
 
 def test_sweep_errors(capsys, book, tmp_path):
@@ -315,8 +303,8 @@ def test_unknown_command_is_a_usage_error(capsys):
 
 
 def _writers(book, out):
-    """Every command that writes a file, as argument lists (None: not available yet)."""
-    from udfs.engine.templates import available
+    """Every command that writes a file, as argument lists."""
+    from udfs.app.templates import available
 
     names = sorted(available())
     return {
@@ -331,15 +319,13 @@ def _writers(book, out):
             "--out",
             out.with_suffix(".xlsx"),
         ],
-        "template": ["template", names[0], "-o", out.with_suffix(".xlsx")] if names else None,
+        "template": ["template", names[0], "-o", out.with_suffix(".xlsx")],
     }
 
 
 @pytest.mark.parametrize("command", ["calc", "sweep-csv", "sweep-core-xlsx", "template"])
 def test_every_writer_refuses_existing_and_missing_directories(capsys, book, tmp_path, command):
     args = _writers(book, tmp_path / "out")[command]
-    if args is None:
-        pytest.skip("no templates yet")
     target = args[-1]
     target.write_bytes(b"old")
     code, _, err = call(capsys, *args)
@@ -405,7 +391,7 @@ def quick_demo(book, monkeypatch):
     """The demo command writing a small stand-in workbook: the same write path
     (write_evaluation, atomic writer) in a fraction of the time; the real demo
     workbook is written in test_every_writer_survives_a_full_disk[demo]."""
-    from udfs.engine import templates
+    from udfs.app import templates
 
     monkeypatch.setattr(templates, "demo_workbook", lambda: ("stand-in", book.read_bytes()))
 
@@ -430,7 +416,7 @@ def test_demo_refuses_existing_and_missing_directories(capsys, book, tmp_path, c
 def test_every_writer_refuses_a_read_only_directory(
     capsys, book, tmp_path, monkeypatch, command, quick_demo
 ):
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     args = _all_writers(book, tmp_path / "out")[command]
     before = _digest(book)
@@ -445,7 +431,7 @@ def test_every_writer_reports_a_directory_that_refuses_new_files(
     capsys, book, tmp_path, monkeypatch, command, quick_demo
 ):
     # the check passed, then creating the temporary file fails (as in a read-only directory)
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     def denied(*a, **k):
         raise PermissionError(13, "Permission denied")
@@ -497,7 +483,7 @@ class _FullDisk:
 def test_every_writer_survives_a_failing_write(
     capsys, book, tmp_path, monkeypatch, command, quick_demo
 ):
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     args = _all_writers(book, tmp_path / "out")[command]
     target = args[-1]
@@ -514,11 +500,9 @@ def test_every_writer_survives_a_failing_write(
 @pytest.mark.parametrize("command", WRITERS)
 def test_every_writer_survives_a_full_disk(capsys, book, tmp_path, monkeypatch, command):
     """Every writer, the real demo workbook included (no stand-in here)."""
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     args = _all_writers(book, tmp_path / "out")[command]
-    if args is None:
-        pytest.skip("no templates yet")
     target = args[-1]
     target.write_bytes(b"old")
 
@@ -536,7 +520,7 @@ def test_every_writer_interrupted_keeps_the_old_file(
     capsys, book, tmp_path, monkeypatch, command, quick_demo
 ):
     # Ctrl-C at the worst moment: the new file is complete, the rename is next
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     args = _all_writers(book, tmp_path / "out")[command]
     target = args[-1]
@@ -557,7 +541,7 @@ def test_every_writer_interrupted_keeps_the_old_file(
 def test_locked_input_is_reported_and_untouched(capsys, book, tmp_path, monkeypatch, command):
     import builtins
 
-    from udfs.engine import files
+    from udfs.xlsx import files
 
     args = _all_writers(book, tmp_path / "out")[command]
     before = _digest(book)

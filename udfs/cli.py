@@ -47,13 +47,13 @@ def _say(text: str = "", stream: TextIO | None = None) -> None:
 
 
 def _caution() -> None:
-    from udfs.engine.caution import CAUTION
+    from udfs.app.caution import CAUTION
 
     _say(CAUTION)
 
 
 def _show(value: Any) -> str:
-    from udfs.sheet.errors import SheetError
+    from udfs.sheet.error_values import SheetError
 
     if isinstance(value, SheetError):
         return value.code
@@ -68,8 +68,8 @@ def _show(value: Any) -> str:
 
 def _parse_set(text: str) -> tuple[str, Any]:
     """``Sheet!B4=40`` / ``'My sheet'!B4=x`` / ``name=40`` -> (target, typed value)."""
-    from udfs.engine.errors import ReferenceSyntaxError
-    from udfs.engine.refs import parse_value
+    from udfs.xlsx.file_errors import ReferenceSyntaxError
+    from udfs.xlsx.refs import parse_value
 
     start = 0
     if text.startswith("'"):
@@ -130,10 +130,10 @@ _MODE_TEXT = {
 
 
 def _cmd_calc(args: argparse.Namespace) -> int:
-    from udfs.engine.calc import check_output_suffix, read_workbook, write_evaluation
-    from udfs.engine.errors import ReferenceSyntaxError
-    from udfs.engine.files import check_output
-    from udfs.engine.refs import CellRef
+    from udfs.app.calc import check_output_suffix, read_workbook, write_evaluation
+    from udfs.xlsx.file_errors import ReferenceSyntaxError
+    from udfs.xlsx.files import check_output
+    from udfs.xlsx.refs import CellRef
 
     overrides: dict[CellRef | str, Any] = {}
     for text in args.set or []:
@@ -163,7 +163,7 @@ def _cmd_calc(args: argparse.Namespace) -> int:
 
 
 def _cmd_template(args: argparse.Namespace) -> int:
-    from udfs.engine import templates
+    from udfs.app import templates
 
     names = sorted(templates.available())
     if args.list or not args.name:
@@ -184,12 +184,11 @@ def _cmd_template(args: argparse.Namespace) -> int:
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
+    from udfs.app.demo import demo_spec, format_bom
     from udfs.core.sizing import design_cell
-    from udfs.demo import demo_spec, format_bom
-    from udfs.engine import templates
-    from udfs.engine.files import check_output
+    from udfs.xlsx.files import check_output
 
-    has_workbook = templates.demo_template() is not None or _has_build_demo()
+    has_workbook = True
     out = args.output if args.output is not None else _fresh_demo_name()
     if args.output is not None and not has_workbook:
         raise _DemoUnavailableError()
@@ -214,28 +213,17 @@ def _fresh_demo_name(stem: str = "cellwright-demo") -> str:
     return name
 
 
-def _has_build_demo() -> bool:
-    try:
-        import udfs.templates as module
-    except ImportError:
-        return False
-    return callable(getattr(module, "build_demo", None))
-
-
 class _DemoUnavailableError(Exception):
     pass
 
 
 def _demo_workbook(out: str, force: bool) -> int:
     """Fill the demo workbook headlessly and write it with its computed values."""
-    from udfs.engine import templates
-    from udfs.engine.calc import write_evaluation
+    from udfs.app import templates
+    from udfs.app.calc import write_evaluation
     from udfs.engine.model import load_model
 
-    made = templates.demo_workbook()
-    if made is None:
-        raise _DemoUnavailableError()
-    what, data = made
+    what, data = templates.demo_workbook()
     model = load_model(data, "cellwright-demo.xlsx")
     evaluation = model.evaluate()
     _say("")
@@ -248,14 +236,14 @@ def _demo_workbook(out: str, force: bool) -> int:
 
 
 def _cmd_sweep(args: argparse.Namespace) -> int:
-    from udfs.engine.errors import ReferenceSyntaxError
-    from udfs.engine.sweep import (
+    from udfs.app.sweep import (
         check_table_output,
         parse_vary,
         sweep_core,
         sweep_workbook,
         write_table,
     )
+    from udfs.xlsx.file_errors import ReferenceSyntaxError
 
     varies = [parse_vary(v) for v in args.vary or []]
     if not varies:
@@ -271,7 +259,7 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
     else:
         if not args.input:
             raise ReferenceSyntaxError("give the workbook to sweep (or --model core)")
-        from udfs.engine.calc import read_workbook
+        from udfs.app.calc import read_workbook
 
         model = read_workbook(args.input)
         table = sweep_workbook(model, varies, args.output_cells or ())
@@ -290,7 +278,7 @@ def _cmd_functions(args: argparse.Namespace) -> int:
     try:
         from udfs.sheet.reference import render_text
     except ImportError:
-        from udfs.engine.adapter import sheet_functions
+        from udfs.engine.functions import sheet_functions
 
         funcs = sheet_functions()
         if not funcs:
@@ -428,7 +416,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return 2
     from udfs.core.errors import CellwrightError
-    from udfs.engine.errors import EngineError
+    from udfs.xlsx.file_errors import EngineError
 
     debug = os.environ.get("CELLWRIGHT_DEBUG") == "1"
     where = f"{PROG} {args.command}"

@@ -34,10 +34,10 @@ from hypothesis import strategies as st
 from udfs.core import catalogue, constants, formula, reactions, units
 from udfs.core.errors import CellwrightError
 from udfs.core.names import lookup
-from udfs.engine.errors import EngineError
 from udfs.sheet.adapter import Kind
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, FUNCTIONS, PLANS
+from udfs.xlsx.file_errors import EngineError
 
 #: Wall time allowed per example (generous: a safety bound against hangs).
 PER_EXAMPLE_S = 2.0
@@ -259,7 +259,7 @@ _VALUE = st.one_of(
 @given(_REF, st.sampled_from(["=", "==", ""]), _VALUE)
 def test_fuzz_cli_set_syntax(ref: str, eq: str, value: str) -> None:
     from udfs.cli import _parse_set
-    from udfs.engine.refs import parse_cell
+    from udfs.xlsx.refs import parse_cell
 
     text = f"{ref}{eq}{value}"
     got = _engine_only("cli-set", lambda: _parse_set(text), text)
@@ -286,7 +286,7 @@ _NUM = st.one_of(
     )
 )
 def test_fuzz_cli_vary_syntax(text: str) -> None:
-    from udfs.engine.sweep import MAX_POINTS_PER_AXIS, parse_vary
+    from udfs.app.sweep import MAX_POINTS_PER_AXIS, parse_vary
 
     got = _engine_only("cli-vary", lambda: parse_vary(text), text)
     if got is not None:

@@ -8,11 +8,11 @@ import molmass
 import numpy as np
 import pytest
 
+from udfs.app.demo import demo_spec
 from udfs.core import catalogue
 from udfs.core.errors import DomainError, InputError, NotFoundError, ShapeError
 from udfs.core.procurement import LCE_FACTOR, composition, lce, metal_content, order_materials
 from udfs.core.sizing import design_cell, size_cell
-from udfs.demo import demo_spec
 
 
 def _molmass_fraction(formula: str, element: str) -> float:

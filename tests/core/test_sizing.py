@@ -612,7 +612,7 @@ def test_pack_validation() -> None:
 
 
 def test_demo_bom_text() -> None:
-    from udfs.demo import DEMO_LABEL, demo_spec, format_bom
+    from udfs.app.demo import DEMO_LABEL, demo_spec, format_bom
 
     d = design_cell(demo_spec())
     text = format_bom(d)
@@ -629,7 +629,7 @@ def test_demo_bom_text() -> None:
 
 
 def test_demo_bom_needs_one_scenario() -> None:
-    from udfs.demo import format_bom
+    from udfs.app.demo import format_bom
 
     d = size_cell("NMC811", "graphite", target_capacity_Ah=[40.0, 60.0],
                   cathode_loading_mg_cm2=20.0)

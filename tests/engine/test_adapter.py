@@ -9,9 +9,9 @@ from formulas.functions import Array, get_functions
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Error
 
-from udfs.engine import adapter
-from udfs.engine.adapter import SheetFunctionAdapter, from_engine, register, to_engine
-from udfs.sheet.errors import SheetError
+from udfs.engine import functions as adapter
+from udfs.engine.functions import SheetFunctionAdapter, from_engine, register, to_engine
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import FUNCTIONS
 
 

@@ -19,7 +19,7 @@ from formulas.tokens.operand import Error
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-import udfs.engine.adapter  # noqa: F401  (the engine's function table as the engine uses it)
+import udfs.engine.functions  # noqa: F401  (the engine's function table as the engine uses it)
 from udfs.engine.aggregates import aggregate_for
 
 NAMES = ["SUM", "SUMPRODUCT", "AVERAGE", "MAX", "MIN"]

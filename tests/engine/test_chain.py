@@ -20,9 +20,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from udfs.engine import model as model_mod
-from udfs.engine.adapter import ensure_registered
 from udfs.engine.chain import BAIL
 from udfs.engine.fast import FastPlan, Key
+from udfs.engine.functions import ensure_registered
 
 #: edge values for the input cells (None: left empty; "=1/0": an error value)
 EDGES: list[Any] = [

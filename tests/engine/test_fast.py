@@ -23,8 +23,8 @@ from openpyxl.worksheet.formula import ArrayFormula
 
 from udfs.engine import fast as fast_mod
 from udfs.engine import model as model_mod
-from udfs.engine.adapter import ensure_registered
 from udfs.engine.fast import FastPlan, relative_key
+from udfs.engine.functions import ensure_registered
 from udfs.engine.model import WorkbookModel
 from udfs.engine.scalar_ops import shortcut_for
 

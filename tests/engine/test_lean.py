@@ -50,7 +50,7 @@ def _book() -> bytes:
 
 def _template() -> bytes | None:
     try:
-        from udfs.engine.templates import demo_workbook
+        from udfs.app.templates import demo_workbook
 
         made = demo_workbook()
     except Exception:  # template builders are another module's work in progress

@@ -31,7 +31,7 @@ from formulas.ranges import Ranges
 from formulas.tokens.operand import Error
 from molmass import Formula
 
-import udfs.engine.adapter  # noqa: F401  (installs the engine's functions)
+import udfs.engine.functions  # noqa: F401  (installs the engine's functions)
 from udfs.engine.lookup import LazyCells, xindex
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -18,11 +18,11 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.formula import ArrayFormula
 
 from udfs.engine import model as model_mod
-from udfs.engine.adapter import register
-from udfs.engine.errors import WorkbookError
+from udfs.engine.functions import register
 from udfs.engine.model import load_model
-from udfs.engine.refs import CellRef
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import WorkbookError
+from udfs.xlsx.refs import CellRef
 
 
 def code(value: object) -> str:

@@ -14,11 +14,11 @@ import openpyxl
 import pytest
 from openpyxl.worksheet.formula import ArrayFormula
 
-from udfs.engine.calc import write_evaluation
+from udfs.app.calc import write_evaluation
 from udfs.engine.model import load_model
-from udfs.sheet.errors import SheetError
+from udfs.sheet import registry
+from udfs.sheet.error_values import SheetError
 
-registry = pytest.importorskip("udfs.sheet.registry")
 F = registry.FUNCTIONS
 
 # (function, arguments as cell values) -- typical inputs, common practice

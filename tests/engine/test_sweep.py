@@ -11,12 +11,9 @@ import openpyxl
 import pytest
 from openpyxl.workbook.defined_name import DefinedName
 
-from udfs.core.sizing import design_cell
-from udfs.demo import demo_spec
-from udfs.engine.errors import ReferenceSyntaxError, WorkbookError
-from udfs.engine.model import load_model
-from udfs.engine.progress import Progress, format_duration
-from udfs.engine.sweep import (
+from udfs.app.demo import demo_spec
+from udfs.app.progress import Progress, format_duration
+from udfs.app.sweep import (
     CORE_OUTPUTS,
     Vary,
     grid_values,
@@ -25,6 +22,9 @@ from udfs.engine.sweep import (
     sweep_workbook,
     write_table,
 )
+from udfs.core.sizing import design_cell
+from udfs.engine.model import load_model
+from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
 
 
 def test_grid_values_include_the_stop_and_avoid_float_noise():

@@ -13,7 +13,7 @@ from udfs.core.errors import DomainError
 from udfs.core.validate import POSITIVE
 from udfs.sheet.adapter import PLANS, Kind, sheet_function
 from udfs.sheet.args import Num, Text
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import FUNCTIONS
 
 F = FUNCTIONS

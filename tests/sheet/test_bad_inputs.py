@@ -7,7 +7,7 @@ from collections import Counter
 import pytest
 from bad_inputs import BAD_INPUTS, BadInput
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, FUNCTIONS
 
 

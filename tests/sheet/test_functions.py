@@ -9,7 +9,7 @@ import math
 import pytest
 
 from udfs.core import catalogue
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, FUNCTIONS, PLANS
 
 F = FUNCTIONS

@@ -17,7 +17,7 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from udfs.sheet.adapter import Kind, Plan
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, FUNCTIONS, PLANS
 
 # numpy warns when a single-cell computation overflows or divides by zero (the fast

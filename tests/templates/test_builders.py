@@ -266,7 +266,7 @@ def test_fill_spec_refuses_what_one_workbook_cannot_hold() -> None:
 
 
 def test_demo_fill_is_labelled_demo_data() -> None:
-    from udfs.demo import DEMO_LABEL, demo_spec
+    from udfs.app.demo import DEMO_LABEL, demo_spec
 
     wb = build_demo()
     values = input_values(wb)
@@ -278,8 +278,8 @@ def test_demo_fill_is_labelled_demo_data() -> None:
 
 
 def test_components_match_the_core_bill_of_materials() -> None:
+    from udfs.app.demo import demo_spec
     from udfs.core.sizing import design_cell
-    from udfs.demo import demo_spec
 
     d = design_cell(demo_spec())
     spec = demo_spec()

@@ -20,16 +20,16 @@ import pytest
 from openpyxl import Workbook
 from openpyxl.utils.cell import range_boundaries
 
+from udfs.app.demo import demo_spec
 from udfs.core.procurement import MaterialOrder, order_materials
 from udfs.core.sizing import CellDesign, CellSpec, design_cell
-from udfs.demo import demo_spec
 from udfs.engine.model import Evaluation, load_model
-from udfs.engine.refs import CellRef
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.templates import TEMPLATES, fill_spec
 from udfs.templates.sizing_inputs import COMPONENTS, spec_inputs
 from udfs.templates.sizing_lists import ELEMENTS
 from udfs.templates.sizing_order import LOADING_AXIS, NP_AXIS
+from udfs.xlsx.refs import CellRef
 
 REL = 1e-9
 

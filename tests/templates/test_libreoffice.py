@@ -26,10 +26,10 @@ from openpyxl.utils.cell import range_boundaries
 from openpyxl.worksheet.formula import ArrayFormula
 
 from udfs.engine.model import load_model
-from udfs.engine.refs import CellRef
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
 from udfs.templates import TEMPLATES
 from udfs.templates.snapshot import reproducible_bytes
+from udfs.xlsx.refs import CellRef
 
 SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
 pytestmark = pytest.mark.skipif(
@@ -173,8 +173,8 @@ def test_dependency_scan_finds_cw_cells() -> None:
 
 @pytest.mark.skipif(shutil.which("pdftoppm") is None, reason="pdftoppm (poppler-utils) missing")
 def test_render_sheet_png(tmp_path: Path) -> None:
+    from udfs.app.render import render_sheet_png
     from udfs.core.errors import CellwrightError
-    from udfs.templates.render import render_sheet_png
 
     out = render_sheet_png(TEMPLATES["potentials"](), "Potentials", tmp_path / "img" / "p.png",
                            dpi=60)

@@ -8,9 +8,9 @@ import stat
 
 import pytest
 
-from udfs.engine import files
-from udfs.engine.errors import FileSafetyError
-from udfs.engine.files import atomic_writer, check_output, read_input, write_bytes_atomic
+from udfs.xlsx import files
+from udfs.xlsx.file_errors import FileSafetyError
+from udfs.xlsx.files import atomic_writer, check_output, read_input, write_bytes_atomic
 
 
 def _leftovers(directory):

@@ -16,15 +16,15 @@ from typing import NamedTuple
 
 import pytest
 
-from udfs.engine.errors import HostileFileError, WorkbookError
-from udfs.engine.guard import (
+from udfs.engine.model import load_model
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import HostileFileError, WorkbookError
+from udfs.xlsx.guard import (
     MAX_NESTING,
     Limits,
     formula_nesting,
     inspect_package,
 )
-from udfs.engine.model import load_model
-from udfs.sheet.errors import SheetError
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"

@@ -11,11 +11,11 @@ import pytest
 from openpyxl.chart import BarChart, Reference
 from openpyxl.worksheet.formula import ArrayFormula
 
-from udfs.engine.adapter import register
-from udfs.engine.calc import calculate_file
-from udfs.engine.errors import WorkbookError
-from udfs.engine.writer import _patch_sheet
-from udfs.sheet.errors import SheetError
+from udfs.app.calc import calculate_file
+from udfs.engine.functions import register
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import WorkbookError
+from udfs.xlsx.writer import _patch_sheet
 
 
 def _triple(x):

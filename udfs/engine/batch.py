@@ -31,8 +31,8 @@ import schedula as sh
 
 from udfs.sheet.adapter import Kind
 
-from .adapter import from_engine, to_engine
 from .chain import ARITH, COMPARE, NEGATE, PERCENT, SHEET, Chain, divide, step_value
+from .functions import from_engine, to_engine
 
 __all__ = ["MIN_BATCH", "Batch", "schedule"]
 

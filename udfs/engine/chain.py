@@ -43,7 +43,7 @@ import schedula as sh
 from formulas.functions import Array, XlError, get_functions
 from formulas.functions.operators import OPERATORS
 
-from .adapter import MAX_ROUND_DIGITS, ROUNDING, SheetFunctionAdapter
+from .functions import MAX_ROUND_DIGITS, ROUNDING, SheetFunctionAdapter
 from .scalar_ops import element_parts
 
 __all__ = ["BAIL", "BailError", "Chain", "compile_chain", "step_value"]

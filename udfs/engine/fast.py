@@ -55,13 +55,13 @@ from formulas.parser import Parser
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Number, Range, XlError
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.refs import col_index, col_letters
 
-from .adapter import SheetFunctionAdapter, from_engine
 from .aggregates import aggregate_for
 from .batch import Batch, schedule
 from .chain import BAIL, Chain, compile_chain
-from .refs import col_index, col_letters
+from .functions import SheetFunctionAdapter, from_engine
 from .scalar_ops import shortcut_for
 
 __all__ = ["FastPlan", "FastRunError", "Key", "NotCoveredError"]

@@ -1,6 +1,6 @@
 """A workbook compiled once by the `formulas` engine and evaluated many times.
 
-:func:`load_model` checks the bytes (:mod:`udfs.engine.guard`), compiles them
+:func:`load_model` checks the bytes (:mod:`udfs.xlsx.guard`), compiles them
 and keeps the compiled model in memory keyed by the SHA-256 of the file's
 content (and the generation of the function registry), so evaluating the same
 workbook again -- with the same or new input values -- skips loading and
@@ -70,21 +70,21 @@ from formulas.excel.xlreader import load_workbook
 from formulas.functions import get_functions
 from formulas.ranges import Ranges
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import EngineError, WorkbookError
+from udfs.xlsx.guard import DEFAULT_LIMITS, Limits, PackageReport, inspect_package
+from udfs.xlsx.package import Package
+from udfs.xlsx.refs import CellRef, col_letters, parse_cell, split_coordinate
 
-from .adapter import (
+from .fast import FastPlan, FastRunError, Key, NotCoveredError, Unit, plain
+from .functions import (
     CellValue,
     ensure_registered,
     from_engine,
     messages_for,
     registered_names,
 )
-from .errors import EngineError, WorkbookError
-from .fast import FastPlan, FastRunError, Key, NotCoveredError, Unit, plain
-from .guard import DEFAULT_LIMITS, Limits, PackageReport, inspect_package
 from .lean import LeanPipe, UnsupportedPipeError, leanify_cells
-from .package import Package
-from .refs import CellRef, col_letters, parse_cell, split_coordinate
 
 __all__ = [
     "INTERNAL_BOOK",

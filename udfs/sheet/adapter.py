@@ -46,7 +46,7 @@ from numpy.typing import NDArray
 from ..core.errors import CellwrightError, ShapeError
 from .args import Activities, Arg, Num
 from .coerce import Coerced, activities_arg, number_arg, text_arg
-from .errors import SheetError, from_exception
+from .error_values import SheetError, from_exception
 
 __all__ = [
     "FUNCTIONS",

@@ -30,7 +30,7 @@ from numpy.typing import NDArray
 from ..core.errors import DomainError, InputError, ShapeError, show_value
 from ..core.validate import ANY
 from .args import Arg, Num
-from .errors import SheetError, incoming_error
+from .error_values import SheetError, incoming_error
 
 __all__ = ["Coerced", "activities_arg", "number_arg", "show", "text_arg"]
 

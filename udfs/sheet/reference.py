@@ -20,7 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from .adapter import Kind, Plan
-from .errors import SheetError
+from .error_values import SheetError
 from .registry import CATALOGUE_ORDER, PLANS
 
 __all__ = [

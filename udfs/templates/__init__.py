@@ -3,7 +3,7 @@
 ``TEMPLATES`` maps a template name to a function that builds a fresh workbook;
 ``python -m udfs.templates --write`` regenerates ``workbook_templates/``.
 ``fill_demo(wb)`` / ``build_demo()`` put the invented demo scenario (demo data,
-``udfs.demo.demo_spec``) into the cell-sizing template; ``fill_spec(wb, spec)``
+``udfs.app.demo.demo_spec``) into the cell-sizing template; ``fill_spec(wb, spec)``
 puts any one-scenario :class:`udfs.core.sizing.CellSpec` there.
 
 >>> sorted(TEMPLATES)

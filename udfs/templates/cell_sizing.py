@@ -241,9 +241,9 @@ def fill_spec(
 
 
 def fill_demo(wb: Workbook) -> Workbook:
-    """Fill a cell-sizing workbook with the demo scenario (``udfs.demo.demo_spec``,
+    """Fill a cell-sizing workbook with the demo scenario (``udfs.app.demo.demo_spec``,
     invented company, product and prices: demo data); return ``wb``."""
-    from ..demo import DEMO_COMPANY, DEMO_LABEL, DEMO_PRODUCT, demo_spec
+    from .demo_scenario import DEMO_COMPANY, DEMO_LABEL, DEMO_PRODUCT, demo_spec
 
     return fill_spec(wb, demo_spec(), scenario=f"{DEMO_COMPANY}: {DEMO_PRODUCT} - {DEMO_LABEL}")
 

@@ -27,7 +27,7 @@ from xml.etree.ElementTree import Element, ParseError
 from defusedxml import DefusedXmlException
 from defusedxml.ElementTree import fromstring, iterparse
 
-from .errors import HostileFileError, WorkbookError
+from .file_errors import HostileFileError, WorkbookError
 from .refs import CellRef, col_index
 
 __all__ = [

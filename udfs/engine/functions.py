@@ -6,7 +6,7 @@ engine under its spreadsheet name, wrapped in :class:`SheetFunctionAdapter`:
 * engine inputs become plain cell values: a one-cell range or a scalar becomes
   a scalar, a larger range a 2-D list; an empty cell becomes ``None``; numpy
   scalars become ``float``/``int``/``bool``; an engine error value becomes a
-  :class:`~udfs.sheet.errors.SheetError` with the same code. An error passed
+  :class:`~udfs.sheet.error_values.SheetError` with the same code. An error passed
   as a single value is propagated without calling the function, as
   spreadsheets do; inside a range it reaches the function as an element, so
   only that element's result is an error;
@@ -18,7 +18,7 @@ engine under its spreadsheet name, wrapped in :class:`SheetFunctionAdapter`:
   becomes ``#VALUE!``; its message is kept, like every error message, in
   :data:`MESSAGES` so the engine can report it beside the cell.
 
->>> from udfs.sheet.errors import SheetError
+>>> from udfs.sheet.error_values import SheetError
 >>> def half(x):
 ...     return x / 2 if isinstance(x, (int, float)) else SheetError("#VALUE!", "x: a number")
 >>> f = SheetFunctionAdapter("CW_HALF", half)
@@ -44,7 +44,7 @@ from formulas.functions import Array, get_functions
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Error, XlError
 
-from udfs.sheet.errors import CODES, SheetError
+from udfs.sheet.error_values import CODES, CellValue, SheetError
 
 from . import lookup
 from .deferred_scipy import import_statistics
@@ -65,7 +65,6 @@ __all__ = [
     "to_engine",
 ]
 
-CellValue = float | int | str | bool | None
 MAX_MESSAGES_PER_FUNCTION = 20
 
 #: function name -> recent distinct error messages (most recent last), bounded.

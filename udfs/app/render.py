@@ -19,8 +19,8 @@ from typing import Any
 
 from openpyxl import Workbook
 
-from ..core.errors import InputError
-from .snapshot import write_atomic
+from udfs.core.errors import InputError
+from udfs.xlsx.files import write_bytes_atomic
 
 __all__ = ["render_sheet_png"]
 
@@ -34,7 +34,7 @@ def _tool(name: str, package: str) -> str:
 
 def render_sheet_png(wb: Workbook, sheet: str, out: str | Path, dpi: int = 150) -> Path:
     """Compute ``wb`` headlessly and write a PNG of ``sheet`` (one page) to ``out``."""
-    from ..engine.model import load_model
+    from udfs.engine.model import load_model
 
     soffice = _tool("soffice", "libreoffice-calc-nogui")
     pdftoppm = _tool("pdftoppm", "poppler-utils")
@@ -61,7 +61,7 @@ def _draw(
     model: Any, evaluation: Any, tools: tuple[str, str], target: Path, dpi: int,
     page: tuple[float, float],
 ) -> Path:
-    from ..engine.calc import write_evaluation
+    from udfs.app.calc import write_evaluation
 
     soffice, pdftoppm = tools
     with tempfile.TemporaryDirectory(prefix="cellwright-render-") as tmp:
@@ -82,5 +82,5 @@ def _draw(
             check=True, capture_output=True, timeout=120,
         )
         target.parent.mkdir(parents=True, exist_ok=True)
-        write_atomic(target, (folder / "page.png").read_bytes())
+        write_bytes_atomic(target, (folder / "page.png").read_bytes(), force=True)
     return target

@@ -46,7 +46,7 @@ import posixpath
 import zipfile
 from dataclasses import dataclass, field
 
-from .errors import HostileFileError, WorkbookError
+from .file_errors import HostileFileError, WorkbookError
 from .package import Package, local
 
 __all__ = [

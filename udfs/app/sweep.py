@@ -34,16 +34,16 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
+from udfs.xlsx.files import atomic_writer, check_output
+from udfs.xlsx.refs import CellRef, col_letters
 
 from .caution import CAUTION
-from .errors import ReferenceSyntaxError, WorkbookError
-from .files import atomic_writer, check_output
 from .progress import Progress
-from .refs import CellRef, col_letters
 
 if TYPE_CHECKING:
-    from .model import WorkbookModel
+    from udfs.engine.model import WorkbookModel
 
 __all__ = [
     "CORE_OUTPUTS",
@@ -239,8 +239,8 @@ def sweep_workbook(
 
 def core_fields() -> list[str]:
     """CellSpec fields a core sweep can vary (the numeric ones)."""
+    from udfs.app.demo import demo_spec
     from udfs.core.sizing import CellSpec
-    from udfs.demo import demo_spec
 
     base = demo_spec()
     out = []
@@ -255,8 +255,8 @@ def core_fields() -> list[str]:
 
 def sweep_core(varies: Sequence[Vary], progress: Progress | None = None) -> SweepTable:
     """Size every scenario with one vectorised call of the core (demo spec as the base)."""
+    from udfs.app.demo import demo_spec
     from udfs.core.sizing import design_cell
-    from udfs.demo import demo_spec
 
     n = _scenarios(varies, MAX_CORE_SCENARIOS)
     allowed = core_fields()

@@ -16,7 +16,7 @@
 >>> write_bytes_atomic(out, b"two")
 Traceback (most recent call last):
 ...
-udfs.engine.errors.FileSafetyError: a.txt already exists; add --force to replace it
+udfs.xlsx.file_errors.FileSafetyError: a.txt already exists; add --force to replace it
 >>> write_bytes_atomic(out, b"two", force=True); out.read_bytes()
 b'two'
 """
@@ -31,7 +31,7 @@ from collections.abc import Iterable, Iterator
 from pathlib import Path
 from typing import BinaryIO
 
-from .errors import FileSafetyError
+from .file_errors import FileSafetyError
 
 __all__ = ["atomic_writer", "check_output", "read_input", "write_bytes_atomic"]
 
@@ -54,7 +54,7 @@ def read_input(path: StrPath, max_bytes: int) -> bytes:
     >>> read_input("/no/such/file.xlsx", 10)
     Traceback (most recent call last):
     ...
-    udfs.engine.errors.FileSafetyError: /no/such/file.xlsx: no such file
+    udfs.xlsx.file_errors.FileSafetyError: /no/such/file.xlsx: no such file
     """
     p = Path(path)
     try:

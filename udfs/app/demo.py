@@ -16,14 +16,11 @@ import textwrap
 
 import numpy as np
 
-from .core.errors import InputError
-from .core.sizing import CellDesign, CellSpec
+from udfs.core.errors import InputError
+from udfs.core.sizing import CellDesign
+from udfs.templates.demo_scenario import DEMO_COMPANY, DEMO_LABEL, DEMO_PRODUCT, demo_spec
 
 __all__ = ["CAUTION", "DEMO_COMPANY", "DEMO_LABEL", "DEMO_PRODUCT", "demo_spec", "format_bom"]
-
-DEMO_LABEL = "demo data: invented company, product and prices"
-DEMO_COMPANY = "Brackenridge Cell Works (invented)"
-DEMO_PRODUCT = "Tern 55 - NMC811/graphite stacked pouch cell, about 55 Ah (invented)"
 
 CAUTION = (
     "Caution: these figures are estimates from a simplified model and invented demo prices, "
@@ -32,33 +29,6 @@ CAUTION = (
     "local codes, and have qualified engineers check any design before it is built, shipped "
     "or used."
 )
-
-
-def demo_spec() -> CellSpec:
-    """The demo cell: NMC811 against graphite, 55 Ah target (demo data).
-
-    >>> demo_spec().target_capacity_Ah
-    55.0
-    """
-    return CellSpec(
-        cathode="NMC811",
-        anode="graphite",
-        target_capacity_Ah=55.0,
-        cathode_loading_mg_cm2=22.0,  # common practice (18-25 mg/cm2 per side, energy cells)
-        cathode_active_fraction=0.96,  # common practice
-        cathode_binder_fraction=0.02,  # common practice
-        anode_active_fraction=0.96,  # common practice
-        anode_binder_fraction=0.03,  # common practice
-        np_ratio=1.1,  # common practice
-        first_cycle_loss=0.08,  # from memory
-        tab_mass_g=2.0,  # from memory
-        housing="pouch laminate",
-        housing_mass_g=15.0,  # from memory
-        width_mm=100.0,  # invented demo footprint
-        height_mm=300.0,  # invented demo footprint
-        electrode_scrap=0.05,  # from memory
-        cell_yield=0.95,  # from memory
-    )
 
 
 def _value(a: np.ndarray, index: int | tuple[int, ...] | None) -> float:

@@ -18,7 +18,10 @@ True
 
 from __future__ import annotations
 
-__all__ = ["CODES", "SheetError", "from_exception", "incoming_error"]
+__all__ = ["CODES", "CellValue", "SheetError", "from_exception", "incoming_error"]
+
+#: A plain cell value: number, text, TRUE/FALSE, empty (None); errors are SheetError (a str).
+CellValue = float | int | str | bool | None
 
 CODES = ("#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A")
 # Error values some runtimes produce besides the classic seven (passed on as #N/A-like

@@ -34,10 +34,9 @@ import zipfile
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-from udfs.sheet.errors import SheetError
+from udfs.sheet.error_values import CellValue, SheetError
 
-from .adapter import CellValue
-from .errors import WorkbookError
+from .file_errors import WorkbookError
 from .package import Package, rels_path
 from .refs import CellRef, col_index, col_letters
 

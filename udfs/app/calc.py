@@ -16,13 +16,14 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
 
+from udfs.engine.model import Evaluation, Override, WorkbookModel, load_model
+from udfs.xlsx.file_errors import WorkbookError
+from udfs.xlsx.files import check_output, read_input, write_bytes_atomic
+from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
+from udfs.xlsx.refs import CellRef
+from udfs.xlsx.writer import write_results
+
 from .caution import CAUTION
-from .errors import WorkbookError
-from .files import check_output, read_input, write_bytes_atomic
-from .guard import DEFAULT_LIMITS, Limits
-from .model import Evaluation, Override, WorkbookModel, load_model
-from .refs import CellRef
-from .writer import write_results
 
 __all__ = [
     "CAUTION",
@@ -78,7 +79,7 @@ def write_evaluation(
 
     ``mode``: "portable" (formulas calling our functions become values), "all"
     (every formula kept, values cached) or "none" (values only); see
-    :mod:`udfs.engine.writer`.
+    :mod:`udfs.xlsx.writer`.
     """
     check_output_suffix(model, out)
     data = write_results(model.package, evaluation.values, model.portable_refs(), mode)

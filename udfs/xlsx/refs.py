@@ -14,7 +14,7 @@ import math
 import re
 from dataclasses import dataclass
 
-from .errors import ReferenceSyntaxError
+from .file_errors import ReferenceSyntaxError
 
 __all__ = [
     "MAX_COL",
