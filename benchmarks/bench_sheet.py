@@ -1,4 +1,5 @@
-"""Cost of the spreadsheet adapter, as ratios to baselines run side by side.
+"""Cost of calling a spreadsheet function (udfs.sheet.call), as ratios to baselines
+run side by side.
 
 1. Scalar call: one ``CW_NERNST(0.34, 2, 0.1, 1)`` (and one ``CW_CAPACITY``) against a
    bare float implementation of the same formula (math module, no checks).
@@ -26,7 +27,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 from udfs.core import capacity as core_capacity
 from udfs.core import nernst as core_nernst
 from udfs.core.constants import LN10, T0, F, R
-from udfs.sheet.adapter import PLANS, sheet_function
+from udfs.sheet.declare import PLANS, sheet_function
 from udfs.sheet.registry import FUNCTIONS
 
 SCALAR_TARGET = 25.0
@@ -62,7 +63,9 @@ def adapter_around(name: str, bare: Callable[..., float]) -> Callable[..., Any]:
     """The same spreadsheet declaration wrapped around the bare formula: its cost
     minus the bare formula's is the adapter's own overhead."""
     plan = PLANS[name]
-    return sheet_function(name, plan.help, plan.args, returns=plan.returns, register=False)(bare)
+    return sheet_function(
+        name, plan.help, plan.args, section=plan.section, returns=plan.returns, register=False
+    )(bare)
 
 
 def scalar_report() -> list[tuple[str, float]]:

@@ -16,7 +16,11 @@ Further tables (same idea, checked elsewhere):
 
 from __future__ import annotations
 
+from datetime import datetime
+from decimal import Decimal
 from typing import Any, NamedTuple
+
+import numpy as np
 
 from udfs.sheet.error_values import SheetError
 
@@ -43,6 +47,52 @@ def huge(rows: int, cols: int, value: float = 1.0) -> Huge:
 
 
 B = BadInput
+
+#: COM's integer form of an error value: 0x800A0000 (signed) plus its CVErr number.
+#: CVErr numbers: Microsoft's XlCVError reference page (the classic seven, #SPILL!) and
+#: the XlCVError members of Excel's type library (the other newer ones); 2051 stands for
+#: an error value without a number here (such as #BUSY!). See tests/sheet/test_incoming_errors.py.
+COM_ERROR_BASE = -2146828288
+_COM_ERRORS = (
+    (2000, "#NULL!", "#NULL!", "CW_NERNST"),
+    (2007, "#DIV/0!", "#DIV/0!", "CW_GIBBS"),
+    (2015, "#VALUE!", "#VALUE!", "CW_CAPACITY"),
+    (2023, "#REF!", "#REF!", "CW_ENERGY"),
+    (2029, "#NAME?", "#NAME?", "CW_LCE"),
+    (2036, "#NUM!", "#NUM!", "CW_NP_RATIO"),
+    (2042, "#N/A", "#N/A", "CW_ELECTRODE_AREA"),
+    (2043, "#GETTING_DATA", "#N/A", "CW_NERNST"),
+    (2045, "#SPILL!", "#N/A", "CW_NERNST"),
+    (2046, "#CONNECT!", "#N/A", "CW_GIBBS"),
+    (2047, "#BLOCKED!", "#N/A", "CW_CAPACITY"),
+    (2048, "#UNKNOWN!", "#N/A", "CW_ENERGY"),
+    (2049, "#FIELD!", "#N/A", "CW_LCE"),
+    (2050, "#CALC!", "#N/A", "CW_NP_RATIO"),
+    (2051, "#N/A Excel error value number 2051", "#N/A", "CW_ELECTRODE_AREA"),
+)
+_TYPICAL = {  # the other arguments (each function's worked example)
+    "CW_NERNST": (2, 0.1, 1),
+    "CW_GIBBS": (2,),
+    "CW_CAPACITY": (160,),
+    "CW_ENERGY": (3.2,),
+    "CW_LCE": (),
+    "CW_NP_RATIO": (3.0,),
+    "CW_ELECTRODE_AREA": (3.0,),
+}
+COM_ERROR_INPUTS: tuple[BadInput, ...] = tuple(
+    BadInput(
+        function,
+        (COM_ERROR_BASE + number, *_TYPICAL[function]),
+        code,
+        shown,
+        f"error value {shown.split()[0]} as the add-in passes it (CVErr {number})",
+        shown="("
+        + ", ".join([f"{COM_ERROR_BASE + number} = CVErr {number}"])
+        + "".join(f", {x:g}" for x in _TYPICAL[function])
+        + ")",
+    )
+    for number, shown, code, function in _COM_ERRORS
+)
 
 BAD_INPUTS: tuple[BadInput, ...] = (
     # formula and units
@@ -355,6 +405,28 @@ BAD_INPUTS: tuple[BadInput, ...] = (
     ),
     B("CW_MATERIALS", (5,), "#VALUE!", "role must be text", "number for a role"),
     B(
+        "CW_MATERIAL_NAME",
+        ("LiFePO5", "cathode"),
+        "#N/A",
+        "material: unknown cathode material 'LiFePO5'; did you mean 'LiFePO4'",
+        "unknown material",
+    ),
+    B(
+        "CW_MATERIAL_NAME",
+        ("graphite", "cathode"),
+        "#VALUE!",
+        "material: 'graphite' is an anode material; expected a cathode material",
+        "material of another role",
+    ),
+    B(
+        "CW_MATERIAL_NAME",
+        ("LFP", "cathodes"),
+        "#N/A",
+        "role: unknown role or category 'cathodes'; did you mean 'cathode'",
+        "misspelt role",
+    ),
+    B("CW_MATERIAL_NAME", (3, "anode"), "#VALUE!", "material must be text", "number for a name"),
+    B(
         "CW_SOURCE",
         ("nothing here",),
         "#N/A",
@@ -470,6 +542,61 @@ BAD_INPUTS: tuple[BadInput, ...] = (
         "anode_areal_capacity must be >= 0 (got -1)",
         "negative anode capacity",
     ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", [["in_cathode", "NMC811"], ["in_np_ratio", -1]]),
+        "#NUM!",
+        "in_np_ratio (N/P ratio) must be > 0 (got -1)",
+        "input out of its range",
+        '"capacity_Ah", {in_cathode: NMC811; in_np_ratio: -1}',
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity", [["in_cathode", "NMC811"]]),
+        "#N/A",
+        "output: unknown output of the cell sizing 'capacity'; did you mean 'capacity_Ah'",
+        "unknown output",
+        '"capacity", {in_cathode: NMC811}',
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", [["in_cathode", "LiFePO5"]]),
+        "#N/A",
+        "in_cathode (Cathode active material): unknown cathode material 'LiFePO5'",
+        "unknown material",
+        '"capacity_Ah", {in_cathode: LiFePO5}',
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", [["in_np_ration", 1.1]]),
+        "#N/A",
+        "inputs: unknown input of the cell-sizing model 'in_np_ration'",
+        "unknown input name",
+        '"capacity_Ah", {in_np_ration: 1.1}',
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", "in_cathode"),
+        "#VALUE!",
+        "inputs must be a two-column range of input names and values",
+        "one cell for the inputs",
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", [["in_cathode", "NMC811"]], "in_cathode", 2.0),
+        "#VALUE!",
+        "input: in_cathode is not a numeric input of the cell sizing that can vary",
+        "a name varied",
+        '"capacity_Ah", {in_cathode: NMC811}, "in_cathode", 2',
+    ),
+    B(
+        "CW_CELL_DESIGN",
+        ("capacity_Ah", [["in_cathode", "NMC811"]], "", 2.0),
+        "#VALUE!",
+        "input_1: name the input that values_1 varies",
+        "values without their input",
+        '"capacity_Ah", {in_cathode: NMC811}, "", 2',
+    ),
     # procurement
     B("CW_LCE", (-1,), "#NUM!", "lithium_mass must be >= 0 (got -1)", "negative mass"),
     B(
@@ -502,10 +629,16 @@ BAD_INPUTS: tuple[BadInput, ...] = (
     ),
     # ---- added by the reliability campaign (issue 6): one row per kind of bad input
     B("CW_CONVERT", (1, "m", "s"), "#VALUE!", "to_unit: 's' is [time]", "length to time"),
-    B("CW_CONVERT", (1, "Ah", "C**"), "#VALUE!", "unknown unit 'C**'", "malformed unit"),
     B(
         "CW_CONVERT",
-        (1, "percent", "percent**1e9"),
+        (1, "Ah", "C**"),
+        "#VALUE!",
+        "to_unit: 'C**' is not a unit: it ends where an exponent is expected",
+        "malformed unit",
+    ),
+    B(
+        "CW_CONVERT",
+        (1, "((km^12)^12)^3", "((m^12)^12)^3"),
         "#VALUE!",
         "the conversion factor is outside the range of a floating-point number",
         "unit whose factor overflows",
@@ -766,6 +899,121 @@ BAD_INPUTS: tuple[BadInput, ...] = (
         "yield_fraction must be > 0 and <= 1 (got 1.2)",
         "yield above 1",
     ),
+    # ---- issue 11 item 5: error values from other cells, as the Windows add-in passes
+    # the newer ones (COM's integer), and as text (a runtime that passes their text)
+    *COM_ERROR_INPUTS,
+    B("CW_NERNST", ("#SPILL!", 2, 0.1, 1), "#N/A", "#SPILL!", "newer error value as text"),
+    B("CW_MOLAR_MASS", ("#CALC!",), "#N/A", "#CALC!", "newer error value as text"),
+    B(
+        "CW_GIBBS",
+        ("#BUSY! from another cell", 2),
+        "#N/A",
+        "#BUSY! from another cell",
+        "newer error value with our message",
+    ),
+    # ---- issue 14 item 9: Python callers (a number is a real number: int, float,
+    # Fraction, Decimal, numpy integers and floats; every other type is #VALUE!)
+    B(
+        "CW_NERNST",
+        (0.34, 2, 0.1, np.datetime64("2024-01-02")),
+        "#VALUE!",
+        "red_activity must be a number, not a date or time (got numpy.datetime64)",
+        "numpy datetime64",
+    ),
+    B(
+        "CW_NERNST",
+        (0.34, 2, 0.1, np.timedelta64(2, "s")),
+        "#VALUE!",
+        "red_activity must be a number, not a date or time (got numpy.timedelta64)",
+        "numpy timedelta64",
+    ),
+    B(
+        "CW_CAPACITY",
+        (datetime(2024, 1, 2), 160),
+        "#VALUE!",
+        "mass_g must be a number, not a date or time (got datetime)",
+        "Python datetime",
+    ),
+    B(
+        "CW_CAPACITY",
+        (100, 160 + 0j),
+        "#VALUE!",
+        "specific_capacity_mAh_g must be a real number (got complex (160+0j))",
+        "complex number",
+    ),
+    B(
+        "CW_ENERGY",
+        (np.complex128(50 + 1j), 3.2),
+        "#VALUE!",
+        "capacity_Ah must be a real number (got complex",
+        "numpy complex128",
+    ),
+    B("CW_LCE", (b"1",), "#VALUE!", "lithium_mass must be a number (got bytes)", "bytes"),
+    B(
+        "CW_MOLAR_MASS",
+        (b"LiFePO4",),
+        "#VALUE!",
+        "formula must be text (chemical formula",
+        "bytes for a formula",
+    ),
+    B(
+        "CW_GIBBS",
+        (Decimal("1e400"), 2),
+        "#NUM!",
+        "emf_V must be a finite number (got inf)",
+        "Decimal too large",
+    ),
+    # ---- issue 14 item 3: unit text that pint would evaluate for ever or for minutes
+    B(
+        "CW_CONVERT",
+        (1, "9**9**9", "C"),
+        "#VALUE!",
+        "from_unit: '9**9**9' is not a unit: a number cannot be raised to a power",
+        "unit text with a power tower (never returned)",
+    ),
+    B(
+        "CW_CONVERT",
+        (1, "C", "2**2**40"),
+        "#VALUE!",
+        "to_unit: '2**2**40' is not a unit: a number cannot be raised to a power",
+        "unit text with a huge power (ate memory)",
+    ),
+    B(
+        "CW_CONVERT",
+        (1, "x" * 100_000, "C"),
+        "#VALUE!",
+        "from_unit: unit text of 100000 characters is too long (at most 100)",
+        "long unknown unit (quadratic parse)",
+        shown="(1, <100,000 characters 'xxx...'>, 'C')",
+    ),
+    B(
+        "CW_CONVERT",
+        (1, "m^2^3", "m"),
+        "#VALUE!",
+        "powers of powers need parentheses",
+        "unit text with chained powers",
+    ),
+    B(
+        "CW_THEORETICAL_CAPACITY",
+        ("LiFePO4", 1, "mAh/g^99"),
+        "#VALUE!",
+        "unit: 'mAh/g^99' is not a unit: an exponent is larger than 12",
+        "unit with a large exponent",
+    ),
+    B(
+        "CW_CHARGE_TO_MASS",
+        (1, "Cu", 2, 1, "A*((((((h))))))"),
+        "#VALUE!",
+        "parentheses nest deeper than 4",
+        "unit nested too deep",
+    ),
+    B(
+        "CW_CONSTANT",
+        ("F", "C/mol; rm -rf"),
+        "#VALUE!",
+        "the character ';' has no place in a unit",
+        "unit text with other characters",
+    ),
 )
 
 
@@ -854,6 +1102,40 @@ RANGE_BAD_INPUTS: tuple[RangeBadInput, ...] = (
         "#NUM!",
         "cell_Ah must be > 0 (got nan)",
         "column with NaN",
+    ),
+    R(
+        "CW_NERNST",
+        (0.34, 2, [[0.1], [COM_ERROR_BASE + 2045], [1.0]], 1),
+        (1, 0),
+        "#N/A",
+        "#SPILL!",
+        "column with an error value as the add-in passes it",
+        shown="(0.34, 2, [[0.1], [-2146826243 = CVErr 2045 (#SPILL!)], [1]], 1)",
+    ),
+    R(
+        "CW_NERNST",
+        (0.34, 2, [[0.1, np.datetime64("2024-01-02"), 1.0]], 1),
+        (0, 1),
+        "#VALUE!",
+        "ox_activity must be a number, not a date or time (got numpy.datetime64)",
+        "row with a numpy datetime64",
+    ),
+    R(
+        "CW_CAPACITY",
+        (np.array([[100.0], [np.timedelta64(2, "s")], [50.0]], dtype=object), 160),
+        (1, 0),
+        "#VALUE!",
+        "mass_g must be a number, not a date or time (got numpy.timedelta64)",
+        "numpy object column with a timedelta64",
+        shown="(numpy object array [[100], [np.timedelta64(2,'s')], [50]], 160)",
+    ),
+    R(
+        "CW_ENERGY",
+        ([[50.0, 50.0 + 2j, 20.0]], 3.2),
+        (0, 1),
+        "#VALUE!",
+        "capacity_Ah must be a real number (got complex",
+        "row with a complex number",
     ),
 )
 

@@ -13,7 +13,7 @@ from hypothesis import HealthCheck, settings
 
 # the shared test helpers (bad_inputs.py, bad_input_catalogue.py) live beside this file
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-for _sub in ("engine", "xlsx"):  # test modules whose tables other tests reuse
+for _sub in ("xlsx",):  # test modules whose tables other tests reuse
     sys.path.append(os.path.join(os.path.dirname(os.path.abspath(__file__)), _sub))
 
 settings.register_profile(

@@ -15,7 +15,7 @@ import pytest
 from bad_input_catalogue import DOC, ROOT, catalogue_rows, range_response, render
 from bad_inputs import BAD_INPUTS, CLI_BAD_INPUTS, RANGE_BAD_INPUTS, RangeBadInput
 
-from udfs.sheet.adapter import Kind
+from udfs.sheet.declare import Kind
 from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, PLANS
 

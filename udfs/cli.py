@@ -143,7 +143,7 @@ def _cmd_calc(args: argparse.Namespace) -> int:
             raise ReferenceSyntaxError(f"--set {target} is given twice")
         overrides[target] = value
     check_output(args.output, args.force, inputs=[args.input])
-    model = read_workbook(args.input)
+    model = read_workbook(args.input, _limits(args))
     check_output_suffix(model, args.output)
     evaluation = model.evaluate(overrides)
     setting = ", ".join(f"{ref.address} = {_show(v)}" for ref, v in evaluation.inputs.items())
@@ -261,7 +261,7 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
             raise ReferenceSyntaxError("give the workbook to sweep (or --model core)")
         from udfs.app.calc import read_workbook
 
-        model = read_workbook(args.input)
+        model = read_workbook(args.input, _limits(args))
         table = sweep_workbook(model, varies, args.output_cells or ())
     path = write_table(table, args.out, args.force, inputs)
     _say(
@@ -275,19 +275,8 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
 
 
 def _cmd_functions(args: argparse.Namespace) -> int:
-    try:
-        from udfs.sheet.reference import render_text
-    except ImportError:
-        from udfs.engine.functions import sheet_functions
+    from udfs.sheet.reference import render_text
 
-        funcs = sheet_functions()
-        if not funcs:
-            _say("No spreadsheet functions are available yet.")
-            return 0
-        for name in sorted(funcs):
-            doc = (funcs[name].__doc__ or "").strip().splitlines()
-            _say(f"{name}: {doc[0] if doc else ''}")
-        return 0
     _say(render_text())
     return 0
 
@@ -337,6 +326,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument(
         "--strict", action="store_true", help="exit 1 if any cell has an error or a problem"
     )
+    _max_formulas(p)
     p.set_defaults(func=_cmd_calc)
 
     p = sub.add_parser(
@@ -387,6 +377,7 @@ def build_parser() -> argparse.ArgumentParser:
         metavar="CELL",
         help="an output cell or defined name (repeatable; default: the named formula cells)",
     )
+    _max_formulas(p)
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     p.set_defaults(func=_cmd_sweep)
 
@@ -397,6 +388,34 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p.set_defaults(func=_cmd_functions)
     return parser
+
+
+def _positive_count(text: str) -> int:
+    try:
+        n = int(text.replace(",", "").replace("_", ""))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError(f"must be at least 1 (got {n})")
+    return n
+
+
+def _max_formulas(p: argparse.ArgumentParser) -> None:
+    from udfs.xlsx.guard import MAX_FORMULA_CELLS
+
+    p.add_argument(
+        "--max-formulas",
+        type=_positive_count,
+        default=MAX_FORMULA_CELLS,
+        metavar="N",
+        help=f"refuse workbooks with more than N formula cells (default {MAX_FORMULA_CELLS:,})",
+    )
+
+
+def _limits(args: argparse.Namespace) -> Any:
+    from udfs.xlsx.guard import Limits
+
+    return Limits(formula_cells=args.max_formulas)
 
 
 def _version() -> str:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -130,3 +131,107 @@ def test_cell_reaction_electron_count_uses_lcm() -> None:
     t = thermo.reaction_thermo("Ag+/Ag", "Zn2+/Zn")
     assert t.electrons == 2
     assert "2Ag+(aq)" in t.equation
+
+
+def test_cadmium_hydroxide_couple_is_the_solid_cadmium_electrode() -> None:
+    # Issue 12: the row carried CRC-ECS's -0.809 V, the cadmium-amalgam electrode
+    # Cd(OH)2 + 2e- = Cd(Hg) + 2OH- (from memory), while its equation says solid Cd.
+    # Solid cadmium from NBS1982 dfG (by hand): dG = 2(-157.244) - (-473.6) = 159.112 kJ/mol,
+    # E0 = -159112 / (2 x 96485.332) = -0.8245 V.
+    c = catalogue.couple("Cd(OH)2/Cd")
+    assert "Cd(s)" in c.reaction.as_text()
+    assert c.e0 == pytest.approx(-0.8245, abs=1e-4)
+    assert thermo.formation_e0("Cd(OH)2/Cd") == pytest.approx(c.e0, abs=1e-4)
+    assert (-0.809 - c.e0) * 1000 == pytest.approx(15.5, abs=0.5)  # the amalgam's 16 mV
+    # the cadmium electrode material follows its couple
+    assert catalogue.material("Cd").number("average_voltage") == c.e0
+
+
+def test_bromine_temperature_coefficient() -> None:
+    # Issue 12: Br2/Br- had no dE0/dT. By hand from the entropies of species.csv for
+    # Br2(l) + H2(g) -> 2Br-(aq) + 2H+(aq): dS = 2 x 80.71 - 152.231 - 130.684 = -121.495 J/K
+    # (Br- from OPENSTAX-CHEM2E App. G; Br2(l), H2 from NBS1982), dE0/dT = dS/(2F) = -0.630 mV/K.
+    c = catalogue.couple("Br2/Br-")
+    assert c.de0dt is not None
+    assert c.de0dt * 1000 == pytest.approx(-0.6296, abs=6e-4)
+    # the other route: NBS1982's S0(Br-) of 82.4 J/(mol K) gives -0.612 mV/K, and the
+    # BRATSCH1989 value is about -0.61 mV/K (both from memory): they agree within 0.03 mV/K
+    assert c.de0dt * 1000 == pytest.approx(-0.61, abs=0.03)
+    shift = float(nernst.e0("Br2/Br-", 75.0)) - float(nernst.e0("Br2/Br-", 25.0))
+    assert shift * 1000 == pytest.approx(50 * -0.630, abs=0.05)
+
+
+@pytest.mark.parametrize(
+    "cid", [c for c in catalogue.couple_ids() if "dS/nF" in catalogue.couple(c).de0dt_source]
+)
+def test_tabulated_de0dt_is_the_entropy_route(cid: str) -> None:
+    # data/README.md: these coefficients are dS/(nF) from the entropies of species.csv for
+    # Ox + (n/2) H2 -> Red + n H+, rounded to 0.001 mV/K; recomputed here
+    c = catalogue.couple(cid)
+    assert c.de0dt is not None
+    assert thermo.entropy_de0dt(cid) == pytest.approx(c.de0dt * 1000, abs=6e-4)
+
+
+def _documented_differences() -> dict[str, float]:
+    """The table "Two routes to a cell's emf" of docs/sources.md: couple -> mV."""
+    text = (Path(__file__).resolve().parents[2] / "docs" / "sources.md").read_text("utf-8")
+    section = text.split("## Two routes to a cell's emf", 1)[1].split("\n## ", 1)[0]
+    out = {}
+    for line in section.splitlines():
+        cells = [c.strip() for c in line.strip().strip("|").split("|")]
+        if len(cells) == 5 and cells[0].startswith("`"):
+            out[cells[0].strip("`")] = float(cells[4])
+    return out
+
+
+def test_two_routes_to_the_emf_differ_by_the_documented_amounts() -> None:
+    # CW_OCV uses the tabulated E0 of each couple; CW_REACTION_THERMO's emf is -dG/(nF)
+    # from the formation data. docs/sources.md lists each couple's difference (0.1 mV);
+    # every couple with formation data must be listed and stay within 0.06 mV of it.
+    documented = _documented_differences()
+    with_data = []
+    for cid in catalogue.couple_ids():
+        try:
+            from_dfg = thermo.formation_e0(cid)
+        except CellwrightError:
+            continue
+        with_data.append(cid)
+        diff_mV = (catalogue.couple(cid).e0 - from_dfg) * 1000
+        assert cid in documented, f"{cid} missing from docs/sources.md"
+        assert diff_mV == pytest.approx(documented[cid], abs=0.06), cid
+    assert sorted(with_data) == sorted(documented)
+    # the sizes the help text of CW_OCV and CW_REACTION_THERMO states: under 5 mV for most
+    # couples, 5 to 16 mV for seven, 20 to 40 mV for three
+    sizes = sorted(abs(v) for v in documented.values())
+    assert sum(v < 5 for v in sizes) > len(sizes) / 2
+    assert sum(5 <= v <= 16 for v in sizes) == 7
+    assert sum(20 <= v <= 40 for v in sizes) == 3 and sizes[-1] <= 40
+
+
+@pytest.mark.parametrize(
+    ("cathode", "anode"),
+    [
+        ("MnO2/Mn2O3", "ZnO/Zn"),
+        ("Cu2+/Cu", "Zn2+/Zn"),
+        ("Ni2+/Ni", "Mg2+/Mg"),
+        ("O2/OH-", "Cd(OH)2/Cd"),
+    ],
+)
+def test_ocv_minus_emf_is_the_difference_of_the_couple_offsets(cathode: str, anode: str) -> None:
+    t = thermo.reaction_thermo(cathode, anode)
+    ocv = float(nernst.ocv(cathode, anode))
+    assert t.emf == pytest.approx(
+        thermo.formation_e0(cathode) - thermo.formation_e0(anode), abs=1e-9
+    )
+    offset = (catalogue.couple(cathode).e0 - thermo.formation_e0(cathode)) - (
+        catalogue.couple(anode).e0 - thermo.formation_e0(anode)
+    )
+    assert ocv - t.emf == pytest.approx(offset, abs=1e-9)
+
+
+def test_alkaline_zinc_manganese_routes_differ_by_15_mV() -> None:
+    # docs/sources.md: 4.0 - (-11.4) = 15.4 mV for MnO2/Mn2O3 against ZnO/Zn
+    t = thermo.reaction_thermo("MnO2/Mn2O3", "ZnO/Zn")
+    assert (float(nernst.ocv("MnO2/Mn2O3", "ZnO/Zn")) - t.emf) * 1000 == pytest.approx(
+        15.4, abs=0.1
+    )

@@ -11,8 +11,16 @@ import pytest
 from udfs.app.demo import demo_spec
 from udfs.core import catalogue
 from udfs.core.errors import DomainError, InputError, NotFoundError, ShapeError
-from udfs.core.procurement import LCE_FACTOR, composition, lce, metal_content, order_materials
-from udfs.core.sizing import design_cell, size_cell
+from udfs.core.procurement import (
+    LCE_FACTOR,
+    bill_lines,
+    composition,
+    lce,
+    metal_content,
+    order_materials,
+    order_precursors,
+)
+from udfs.core.sizing import CellSpec, design_cell, size_cell
 
 
 def _molmass_fraction(formula: str, element: str) -> float:
@@ -200,3 +208,87 @@ def test_order_validation() -> None:
         order_materials(d, order_cells=10, elements=["Nx"])
     with pytest.raises(InputError):
         order_materials("design", order_cells=10)  # type: ignore[arg-type]
+
+
+# ---------------------------------------------------------------- bill lines and precursors
+
+
+def _nmc_design():  # type: ignore[no-untyped-def]
+    # a demo design (invented): NMC811 against graphite, 55 Ah, 22 mg/cm2 per side
+    return design_cell(CellSpec("NMC811", "graphite", target_capacity_Ah=55.0,
+                                cathode_loading_mg_cm2=22.0))
+
+
+def test_bill_lines_carry_every_basis_that_applies() -> None:
+    d = _nmc_design()
+    lines = {b.component: b for b in bill_lines(d)}
+    assert list(lines) == list(d.components)
+    for name, b in lines.items():
+        assert float(b.kg) == pytest.approx(float(d.components[name]) / 1000.0, rel=1e-15)
+        assert (b.m2 is not None) == (name in d.component_areas_cm2)
+        assert b.electrode == (name in d.electrode_components)
+    sep = lines["separator (PE separator)"]
+    assert float(sep.m2) == pytest.approx(float(d.separator_area_cm2) / 1e4, rel=1e-15)
+    elyte = lines["electrolyte (LiPF6 1M in EC:DMC)"]
+    rho = catalogue.material("LiPF6 1M in EC:DMC").number("density")  # catalogue, g/cm3
+    assert float(elyte.L) == pytest.approx(float(elyte.kg) / rho, rel=1e-15)
+    assert [b.pieces is not None for b in lines.values()].count(True) == 3  # 2 tabs, housing
+    assert lines["anode tab (nickel tab)"].quantity("count") == 1.0
+    assert lines["cathode active (NMC811)"].quantity("area") is None
+
+
+def test_precursor_salts_of_nmc811_by_hand() -> None:
+    d = _nmc_design()
+    o = order_materials(d, order_cells=10_000)
+    cam = float(o.buy_t["cathode active (NMC811)"])
+    p = order_precursors(d, order_cells=10_000, lithium_excess=0.03, synthesis_yield=0.98)
+    assert float(p.cathode_active_t) == pytest.approx(cam, rel=1e-15)
+    nmc = "Li10Ni8MnCoO20"  # 10 x LiNi0.8Mn0.1Co0.1O2 (molmass cannot read fractions)
+    # salt t = metal t / yield / (metal fraction in the salt); molmass library fractions
+    for salt, el, molmass_salt in [("NiSO4·6H2O", "Ni", "NiSO4(H2O)6"),
+                                   ("CoSO4·7H2O", "Co", "CoSO4(H2O)7"),
+                                   ("MnSO4·H2O", "Mn", "MnSO4(H2O)")]:
+        want = cam * _molmass_fraction(nmc, el) / 0.98 / _molmass_fraction(molmass_salt, el)
+        assert float(p.salts_t[salt]) == pytest.approx(want, rel=2e-4), salt
+    li = cam * _molmass_fraction(nmc, "Li") * 1.03 / 0.98 / _molmass_fraction("LiOH(H2O)", "Li")
+    assert float(p.salts_t["LiOH·H2O"]) == pytest.approx(li, rel=2e-4)
+    assert p.no_salt_route == ()
+    carb = order_precursors(d, order_cells=10_000, lithium_salt="Carbonate")
+    li2 = cam * _molmass_fraction(nmc, "Li") / _molmass_fraction("Li2CO3", "Li")
+    assert float(carb.salts_t["Li2CO3"]) == pytest.approx(li2, rel=2e-4)
+
+
+def test_nmp_and_iron_phosphate() -> None:
+    d = design_cell(CellSpec("LiFePO4", "graphite", target_capacity_Ah=100.0,
+                             cathode_loading_mg_cm2=25.0))
+    o = order_materials(d, order_MWh=5.0)
+    p = order_precursors(d, order_MWh=5.0, slurry_solids_fraction=0.6, nmp_recovery=0.95)
+    cam = float(o.buy_t["cathode active (LiFePO4)"])
+    fe = cam * _molmass_fraction("LiFePO4", "Fe")  # molmass library
+    assert float(p.salts_t["FePO4"]) == pytest.approx(fe / _molmass_fraction("FePO4", "Fe"),
+                                                      rel=2e-4)
+    # NMP: only the PVDF (cathode) slurry; used = solids * (1 - 0.6) / 0.6; bought 5 %
+    solids = sum(float(o.buy_t[n]) for n in d.components
+                 if n.startswith(("cathode active", "cathode binder", "cathode carbon")))
+    assert p.nmp_electrodes == ("cathode",)
+    assert float(p.nmp_used_t) == pytest.approx(solids * 0.4 / 0.6, rel=1e-12)
+    assert float(p.nmp_bought_t) == pytest.approx(solids * 0.4 / 0.6 * 0.05, rel=1e-12)
+    assert float(p.nmp_recovered_t + p.nmp_bought_t) == pytest.approx(float(p.nmp_used_t))
+
+
+def test_precursor_edge_cases() -> None:
+    nca = design_cell(CellSpec("NCA", "graphite", target_capacity_Ah=50.0,
+                               cathode_loading_mg_cm2=20.0))
+    p = order_precursors(nca, order_cells=100)
+    assert p.no_salt_route == ("Al",) and float(p.metals_t["Al"]) > 0
+    with pytest.raises(InputError):
+        order_precursors(nca, order_cells=100, lithium_salt="chloride")
+    with pytest.raises(DomainError) as info:
+        order_precursors(nca, order_cells=100, slurry_solids_fraction=0.0)
+    assert info.value.argument == "slurry_solids_fraction"
+    with pytest.raises(DomainError):
+        order_precursors(nca, order_cells=100, nmp_recovery=1.5)
+    with pytest.raises(InputError):
+        order_precursors(nca)
+    vec = order_precursors(nca, order_cells=[[100], [200]], nmp_recovery=[0.9, 0.95, 0.99])
+    assert vec.nmp_bought_t.shape == (2, 3)

@@ -9,6 +9,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
+from udfs.core.constants import PKW_25C
 from udfs.core.errors import CellwrightError, DomainError, NotFoundError, ParseError
 from udfs.core.reactions import log10_quotient, parse_activities, parse_half_reaction
 
@@ -57,8 +58,22 @@ def test_quotient_conventions() -> None:
 
 def test_hydroxide_from_ph_through_kw() -> None:
     r = parse_half_reaction("O2(g) + 2H2O(l) + 4e- = 4OH-(aq)")
-    # a(OH-) = 10**(pH - pKw), pKw 13.995 at 25 C (CRC Handbook)
-    assert float(log10_quotient(r, {"pH": 14.0})) == pytest.approx(4 * (14.0 - 13.995), abs=1e-12)
+    # a(OH-) = 10**(pH - pKw); unless the caller says otherwise pKw is its 25 C value,
+    # 13.995 (CRC Handbook prints 13.995; BANDURA2006 gives 13.9949)
+    assert pytest.approx(13.995, abs=6e-4) == PKW_25C
+    assert float(log10_quotient(r, {"pH": 14.0})) == pytest.approx(4 * (14.0 - PKW_25C), abs=1e-12)
+
+
+def test_hydroxide_uses_the_callers_pkw_and_broadcasts() -> None:
+    r = parse_half_reaction("O2(g) + 2H2O(l) + 4e- = 4OH-(aq)")
+    # pKw 13.02 at 60 C and 12.60 at 80 C (BANDURA2006), as a column against a row of pH
+    q = log10_quotient(r, {"pH": [13.0, 14.0]}, pkw=[[13.02], [12.60]])
+    assert q.shape == (2, 2)
+    expected = [[4 * (13.0 - 13.02), 4 * (14.0 - 13.02)], [4 * (13.0 - 12.60), 4 * (14.0 - 12.60)]]
+    assert q.tolist() == [pytest.approx(row, abs=1e-12) for row in expected]
+    # the H+ form does not depend on pKw (a(H+) = 10**-pH by definition of pH)
+    acid = parse_half_reaction("O2(g) + 4H+(aq) + 4e- = 2H2O(l)")
+    assert float(log10_quotient(acid, {"pH": 3.0}, pkw=12.6)) == pytest.approx(12.0, abs=1e-12)
 
 
 def test_quotient_broadcasts() -> None:

@@ -22,7 +22,16 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from udfs.core import catalogue
-from udfs.core.errors import DomainError, InputError, NotFoundError, ShapeError, UnitError
+from udfs.core.errors import (
+    CellwrightError,
+    DomainError,
+    InputError,
+    NotFoundError,
+    ShapeError,
+    UnitError,
+)
+from udfs.core.inputs import Input
+from udfs.core.procurement import order_materials
 from udfs.core.sizing import (
     CellDesign,
     CellSpec,
@@ -32,6 +41,16 @@ from udfs.core.sizing import (
     size_cell,
     size_pack,
 )
+from udfs.core.sizing_table import CELL_SIZING, COMPONENTS
+from udfs.core.sizing_values import (
+    SPEC_INPUTS,
+    field_of,
+    order_from_values,
+    spec_from_values,
+    spec_values,
+    vary,
+)
+from udfs.core.validate import Domain, FreeText, Names, Options
 
 # ---------------------------------------------------------------- reference model
 
@@ -639,3 +658,158 @@ def test_demo_bom_needs_one_scenario() -> None:
     assert f"{float(d.cell_mass_g[1]):.2f}" in format_bom(d, index=1)
     with pytest.raises(InputError):
         format_bom(d, index=5)
+
+
+# ---------------------------------------------------------------- one declaration per input
+# udfs.core.sizing_table declares every input once; CellSpec's defaults, the core's checks
+# and the check of a --set value all come from it. Bad values below are the domains' own
+# bounds (or one past them), not reference values.
+
+_BASE: dict[str, object] = dict(cathode="NMC811", anode="graphite", target_capacity_Ah=50.0,
+                                cathode_loading_mg_cm2=20.0)
+_SPEC_FIELDS = {f.name for f in fields(CellSpec)}
+
+
+def _bad(inp: Input, field: str | None) -> list[tuple[str, object]]:
+    """(what is wrong, value) for every way the input can be refused."""
+    d = inp.domain_of(field)
+    out: list[tuple[str, object]] = []
+    if isinstance(d, Domain):
+        if d.lower is not None:
+            out.append(("below its minimum", d.lower if d.lower_open else d.lower - 1.0))
+        if d.upper is not None:
+            out.append(("above its maximum", d.upper if d.upper_open else d.upper + 1.0))
+        if d.integer:
+            out.append(("not whole", 2.5))
+        out += [("not finite", math.nan), ("text", "abc"), ("boolean", True)]
+    elif isinstance(d, Names):
+        other = next(m for m in catalogue.material_names() if catalogue.material(m).role
+                     not in d.roles)
+        out += [("unknown name", "no such material"), ("number", 3.0), ("wrong kind", other)]
+    elif isinstance(d, Options):
+        out += [("unknown option", "sideways"), ("number", 1.0)]
+    elif isinstance(d, FreeText):
+        out += [("number", 1.0)]
+    if not inp.optional and field is not None and not inp.choices:
+        out.append(("empty", None))
+    return out
+
+
+def _core_error(inp: Input, field: str | None, value: object) -> Exception:
+    """The core's own refusal of ``value``: the model that takes ``field``, or,
+    for an input that sets no CellSpec field, the core's reading of workbook values."""
+    with pytest.raises(CellwrightError) as info:
+        if field in ("order_cells", "order_MWh"):
+            order_materials(design_cell(CellSpec(**_BASE)), **{field: value})  # type: ignore[arg-type]
+        elif field is not None:
+            base = dict(_BASE)
+            for pair in ("target_capacity_Ah", "target_energy_Wh"), (
+                    "cathode_loading_mg_cm2", "cathode_areal_capacity_mAh_cm2"):
+                if field in pair:
+                    for f in pair:
+                        base.pop(f, None)
+            design_cell(CellSpec(**{**base, field: value}))  # type: ignore[arg-type]
+        else:
+            spec_from_values({inp.name: value})
+    return info.value
+
+
+_CASES = [
+    pytest.param(inp, field, what, value, id=f"{inp.name}-{field}-{what}")
+    for inp in CELL_SIZING
+    for field in (inp.fields or (None,))
+    for what, value in _bad(inp, field)
+]
+
+
+@pytest.mark.parametrize(("inp", "field", "what", "value"), _CASES)
+def test_core_and_input_check_refuse_with_the_same_reason(
+    inp: Input, field: str | None, what: str, value: object
+) -> None:
+    core = _core_error(inp, field, value)
+    key = field or inp.name
+    with pytest.raises(CellwrightError) as checked:
+        CELL_SIZING.check(key, value)
+    assert type(checked.value) is type(core)
+    assert str(checked.value) == str(core), what
+    assert CELL_SIZING.reason(key, value) == str(core)
+    if field is not None and inp.domain_of(field) is inp.domain:
+        # the defined name says the same, naming the input by its name and label
+        by_name = CELL_SIZING.reason(inp.name, value)
+        assert by_name == str(core).replace(field, f"{inp.name} ({inp.label})", 1)
+
+
+def test_every_kind_of_bad_value_is_covered() -> None:
+    names = {p.values[0].name for p in _CASES}  # type: ignore[union-attr]
+    assert names == set(CELL_SIZING.names)
+    whats = {p.values[2] for p in _CASES}
+    assert {"below its minimum", "above its maximum", "text", "unknown name",
+            "wrong kind", "unknown option", "not whole", "empty"} <= whats
+    assert len(_CASES) > 300
+
+
+def test_issue_reproduction_negative_np_ratio_is_refused_before_computing() -> None:
+    assert CELL_SIZING.reason("in_np_ratio", -1) == "in_np_ratio (N/P ratio) must be > 0 (got -1)"
+    e = _err(DomainError, np_ratio=-1.0)
+    assert str(e) == "np_ratio must be > 0 (got -1)"
+
+
+def test_price_numbers_are_refused_alike_by_spec_and_table() -> None:
+    inp = CELL_SIZING.get(COMPONENTS[0].price)
+    e = _err(DomainError, prices={"NMC811": -1.0})
+    with pytest.raises(DomainError) as checked:
+        CELL_SIZING.check(inp.name, -1.0)
+    assert (checked.value.allowed, checked.value.value) == (e.allowed, e.value)  # type: ignore[attr-defined]
+
+
+def test_cellspec_defaults_come_from_the_table() -> None:
+    spec = CellSpec("NMC811", "graphite")
+    defaults = CELL_SIZING.defaults()
+    for f in fields(CellSpec):
+        if f.name in defaults and f.name not in ("cathode", "anode"):
+            want = defaults[f.name]
+            if f.name == "anode_binder":
+                want = {"CMC": 0.5, "SBR": 0.5}  # main binder with its second at a 0.5 share
+            assert getattr(spec, f.name) == want, f.name
+    covered = {f for inp in CELL_SIZING for f in inp.fields}
+    assert covered == _SPEC_FIELDS - {"prices"} | {"order_cells", "order_MWh"}
+
+
+def test_values_round_trip_through_the_table() -> None:
+    spec = CellSpec("LFP", "graphite", target_energy_Wh=120.0, cathode_areal_capacity_mAh_cm2=3.1,
+                    cathode_binder={"PVDF": 0.7, "CMC": 0.3}, anode_binder="SBR", np_ratio=1.15,
+                    separator_thickness_um=18.0, prices={"LFP": 7.5, "PE separator":
+                                                          (0.6, "USD/m^2")})
+    values = spec_values(spec, order_MWh=2.0)
+    again = spec_from_values(values)
+    assert again.cathode == "LiFePO4" and again.target_energy_Wh == 120.0
+    assert again.target_capacity_Ah is None and again.cathode_loading_mg_cm2 is None
+    assert again.cathode_binder == {"PVDF": 0.7, "CMC": 0.3} and again.anode_binder == "SBR"
+    assert again.prices == {"LiFePO4": (7.5, "USD/kg"), "PE separator": (0.6, "USD/m^2")}
+    assert float(design_cell(again).cost_per_kWh_USD) == pytest.approx(
+        float(design_cell(spec).cost_per_kWh_USD), rel=1e-12)
+    assert order_from_values(values) == {"order_MWh": 2.0}
+    assert set(SPEC_INPUTS) == set(CELL_SIZING.names) - {
+        "in_scenario", "in_order_basis", "in_order_size"}
+
+
+def test_values_with_aliases_and_cross_input_rules() -> None:
+    assert spec_from_values({"in_cathode": "lfp", "in_anode": "Graphite"}).cathode == "LiFePO4"
+    with pytest.raises(InputError, match="name the second binder"):
+        spec_from_values({"in_cathode_binder2_share": 0.2})
+    with pytest.raises(InputError, match="repeats the first"):
+        spec_from_values({"in_cathode_binder2": "pvdf", "in_cathode_binder2_share": 0.2})
+    with pytest.raises(InputError, match="give the unit"):
+        spec_from_values({"in_price_cathode_active": 20.0})
+    with pytest.raises(NotFoundError, match="in_np_ration"):
+        spec_from_values({"in_np_ration": 1.1})
+
+
+def test_vary_sets_the_field_a_chooser_picks() -> None:
+    assert field_of("in_target", {"in_target_basis": "energy"}) == "target_energy_Wh"
+    assert field_of("in_loading", {}) == "cathode_loading_mg_cm2"
+    spec = vary(CellSpec(**_BASE), "target_energy_Wh", [100.0, 200.0])  # type: ignore[arg-type]
+    assert spec.target_capacity_Ah is None
+    assert design_cell(spec).shape == (2,)
+    with pytest.raises(InputError, match="numeric input"):
+        field_of("in_cathode", {})

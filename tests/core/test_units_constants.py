@@ -2,10 +2,14 @@
 
 from __future__ import annotations
 
+import faulthandler
 import math
+import os
+import re
+import time
 
 import pytest
-from hypothesis import given
+from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from udfs.core import constants, units
@@ -114,3 +118,132 @@ def test_constants_equal_pints_codata_definitions(name: str, pint_name: str, uni
     reg = units.registry()
     expected = (1 * getattr(reg, pint_name)).to(unit).magnitude
     assert constants.constant(name)[0] == pytest.approx(expected, rel=1e-15)
+
+
+# ---------------------------------------------------------------- unit text checked before pint
+
+# The units the trade writes (common practice), each accepted by the grammar.
+TRADE_UNITS = [
+    "mAh/g",
+    "mg/cm^2",
+    "mg/cm**2",
+    "kWh",
+    "degC",
+    "°C",
+    "USD/kg",
+    "1/h",
+    "J/(mol*K)",
+    "J/mol/K",
+    "kg m^-3",
+    "kg·m",
+    "m^(1/2)",
+    "m^0.5",
+    "s^(-1)",
+    "(m^2)^3",
+    "mol/L",
+    "A/dm^2",
+    "wt%",
+    "µm",
+    "m²",
+    "m⁻¹",
+    "percent",
+]
+
+
+@pytest.mark.parametrize("text", TRADE_UNITS)
+def test_unit_text_the_trade_writes_is_accepted(text: str) -> None:
+    units.check_unit_text(text)
+
+
+@pytest.mark.parametrize(
+    ("text", "reason"),
+    [
+        ("9**9**9", "a number cannot be raised to a power"),  # never returned before
+        ("2**2**40", "a number cannot be raised to a power"),  # ate memory before
+        ("10^3*g", "a number cannot be raised to a power"),
+        ("(2*m)^3", "a number cannot be raised to a power"),
+        ("m^2^3", "powers of powers need parentheses"),
+        ("m**99", "an exponent is larger than 12"),
+        ("m^(1/99)", "too finely divided"),
+        ("m^1e9", "is not a small number"),
+        ("m^", "it ends where an exponent is expected"),
+        ("((((((m))))))", "parentheses nest deeper than 4"),
+        ("(m", "a parenthesis is not closed"),
+        ("m)", "')' is out of place"),
+        ("kg=1", "the character '=' has no place in a unit"),
+        ("m\nm", "has no place in a unit"),
+        ("x" * 101, "unit text of 101 characters is too long (at most 100)"),
+        ("x" * 100_000, "unit text of 100000 characters is too long"),  # quadratic before
+    ],
+)
+def test_unit_text_refused_before_pint(text: str, reason: str) -> None:
+    for src, dst in ((text, "C"), ("C", text)):  # as the source and as the target unit
+        with pytest.raises(UnitError, match="from_unit") as info:
+            units.convert(1.0, src, dst, argument="from_unit")
+        assert reason in str(info.value)
+    with pytest.raises(UnitError, match=re.escape(reason)):
+        units.dimension_of(text)
+
+
+UNIT_ALPHABET = "0123456789mkgAhsCJWV.*/^()-+ eE%°"
+
+
+@given(st.one_of(st.text(max_size=300), st.text(alphabet=UNIT_ALPHABET, max_size=40)))
+def test_any_unit_text_gives_a_factor_or_a_unit_error(text: str) -> None:
+    for src, dst in ((text, "C"), ("C", text)):
+        try:
+            units.conversion(src, dst)
+        except UnitError as exc:
+            assert str(exc).startswith("unit"), exc
+        else:
+            # accepted: a charge unit within the grammar (common practice: C is charge)
+            units.check_unit_text(text.strip())
+            assert len(text.strip()) <= units.MAX_UNIT_TEXT
+
+
+LONG_PROFILE = os.environ.get("HYPOTHESIS_PROFILE", "ci") == "long"
+CALL_LIMIT_S = 0.050  # issue 14: any unit argument answers within 50 ms
+HANG_S = 20.0  # a call this long is a hang: the run stops with a traceback dump
+
+
+@pytest.mark.skipif(not LONG_PROFILE, reason="opt-in long run: HYPOTHESIS_PROFILE=long")
+def test_long_any_text_as_a_unit_answers_within_50_ms() -> None:
+    times: list[float] = []
+    slow: list[tuple[str, float]] = []
+    units.conversion("Ah", "C")  # build pint's registry first: a one-time cost of about 1 s
+
+    @settings(suppress_health_check=list(HealthCheck), deadline=None)
+    @given(
+        st.one_of(
+            st.text(max_size=32_767),
+            st.text(min_size=1_000, max_size=32_767),
+            st.text(alphabet=UNIT_ALPHABET, max_size=32_767),
+            st.text(alphabet=UNIT_ALPHABET, max_size=120),
+            st.lists(st.sampled_from(["9", "**", "^", "m", "(", ")", "2", "/"]), max_size=60).map(
+                "".join
+            ),
+        )
+    )
+    def one(text: str) -> None:
+        for src, dst in ((text, "C"), ("C", text)):
+            faulthandler.dump_traceback_later(HANG_S, exit=True)
+            start = time.perf_counter()
+            try:
+                units.conversion(src, dst)
+            except UnitError:
+                pass
+            finally:
+                elapsed = time.perf_counter() - start
+                faulthandler.cancel_dump_traceback_later()
+            times.append(elapsed)
+            if elapsed > CALL_LIMIT_S:
+                slow.append((text[:40], elapsed))
+
+    one()
+    ordered = sorted(times)
+    print(
+        f"\nunit text property run: {len(times) // 2} examples, {len(times)} calls; "
+        f"max {ordered[-1] * 1e3:.3f} ms, median {ordered[len(ordered) // 2] * 1e3:.4f} ms; "
+        f"calls over {CALL_LIMIT_S * 1e3:.0f} ms: {len(slow)}; hangs (> {HANG_S:.0f} s): 0"
+    )
+    assert slow == []

@@ -16,7 +16,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from udfs.sheet.adapter import Kind, Plan
+from udfs.sheet.declare import Kind, Plan
 from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, FUNCTIONS, PLANS
 

@@ -3,27 +3,24 @@
 xlwings/udfs.py is what the add-in's "Import Functions" button runs: it turns
 the decorated functions into VBA ``Function`` declarations and calls Excel's
 ``MacroOptions`` with the help texts. Here it is imported with its Windows-only
-modules (pythoncom, pywintypes, win32com) stubbed, the spreadsheet functions
-are decorated with its real ``xlfunc``/``xlarg``/``xlret`` through the same
-adapter code that runs on Windows, and ``import_udfs`` is run against a fake
+modules stubbed (tests/sheet/conftest.py), the spreadsheet functions are
+decorated with its real ``xlfunc``/``xlarg``/``xlret`` through the same
+declaration code that runs on Windows, and ``import_udfs`` is run against a fake
 workbook that records the VBA module and the MacroOptions calls.
 """
 
 from __future__ import annotations
 
-import importlib
 import io
 import re
-import sys
 import types
-from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
 import pytest
 
 import udfs
-from udfs.sheet.adapter import PLANS, _build_callable, decorate_for_xlwings
+from udfs.sheet.declare import PLANS
 from udfs.sheet.registry import CATALOGUE_ORDER
 
 # VBA reserved identifiers, case-insensitive. From the VBA language specification
@@ -99,38 +96,9 @@ class _Workbook:
 
 
 @pytest.fixture(scope="module")
-def xlwings_udfs() -> Iterator[types.ModuleType]:
+def xlwings_udfs(xlwings_windows: Any) -> types.ModuleType:
     """xlwings.udfs imported on Linux with stubs for the Windows-only modules."""
-    pythoncom = types.ModuleType("pythoncom")
-    pythoncom.CoInitialize = lambda: None  # type: ignore[attr-defined]
-    pythoncom.IID_IDispatch = object()  # type: ignore[attr-defined]
-    pywintypes = types.ModuleType("pywintypes")
-    pywintypes.com_error = type("com_error", (Exception,), {})  # type: ignore[attr-defined]
-    win32com = types.ModuleType("win32com")
-    client = types.ModuleType("win32com.client")
-    client.Dispatch = lambda *a, **k: None  # type: ignore[attr-defined]
-    win32com.client = client  # type: ignore[attr-defined]
-    with pytest.MonkeyPatch.context() as mp:
-        for name, mod in (
-            ("pythoncom", pythoncom),
-            ("pywintypes", pywintypes),
-            ("win32com", win32com),
-            ("win32com.client", client),
-        ):
-            mp.setitem(sys.modules, name, mod)
-        mp.delitem(sys.modules, "xlwings.udfs", raising=False)
-        module = importlib.import_module("xlwings.udfs")
-        yield module
-        sys.modules.pop("xlwings.udfs", None)
-
-
-def _probe_module(xlu: types.ModuleType) -> types.ModuleType:
-    """A module like ``udfs`` whose functions carry the Windows decoration."""
-    probe = types.ModuleType("udfs")
-    for name, plan in PLANS.items():
-        fn = decorate_for_xlwings(_build_callable(plan), plan, xlu.xlfunc, xlu.xlarg, xlu.xlret)
-        setattr(probe, name, fn)
-    return probe
+    return xlwings_windows.udfs
 
 
 @pytest.fixture(scope="module")
@@ -138,13 +106,9 @@ def registered(xlwings_udfs: types.ModuleType) -> tuple[types.ModuleType, _Workb
     import xlwings
 
     assert not xlwings.__pro__, "the PRO branch of import_udfs needs a real workbook"
-    probe = _probe_module(xlwings_udfs)
-    xlwings_udfs.udf_modules["udfs"] = {"filename": "udfs", "filetime": None, "module": probe}
+    probe = xlwings_udfs.udf_modules["udfs"]["module"]
     book = _Workbook()
-    try:
-        xlwings_udfs.import_udfs("udfs", book)
-    finally:
-        xlwings_udfs.udf_modules.pop("udfs", None)
+    xlwings_udfs.import_udfs("udfs", book)
     return probe, book, book.VBProject.VBComponents.imported
 
 

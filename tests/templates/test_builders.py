@@ -18,10 +18,12 @@ from openpyxl.worksheet.formula import ArrayFormula
 
 from udfs.core.errors import CellwrightError
 from udfs.core.sizing import CellSpec
+from udfs.core.sizing_table import COMPONENTS
+from udfs.core.sizing_values import spec_values
 from udfs.templates import TEMPLATES, build_demo, fill_demo, fill_spec
 from udfs.templates.__main__ import main as templates_main
-from udfs.templates.sizing_inputs import COMPONENTS, input_values, set_inputs, spec_inputs
 from udfs.templates.snapshot import diff_snapshots, reproducible_bytes, snapshot
+from udfs.templates.workbook_inputs import input_values, set_inputs
 
 ROOT = Path(__file__).resolve().parents[2]
 COMMITTED = ROOT / "workbook_templates"
@@ -162,7 +164,9 @@ def test_drop_downs_are_fed_by_the_catalogue(books: dict[str, Workbook]) -> None
     wb = books["cell_sizing"]
     sheet, ref = next(iter(wb.defined_names["list_cathode"].destinations))
     names = [c.value for row in wb[sheet][ref.replace("$", "")] for c in row]
-    assert names == catalogue.material_names("cathode")
+    canonical = catalogue.material_names("cathode")
+    assert names[: len(canonical)] == canonical  # the catalogue's names, then the aliases
+    assert "LFP" in names[len(canonical):]  # an alias of LiFePO4 in data/active_materials.csv
     dvs = [dv for dv in wb["Inputs"].data_validations.dataValidation if dv.type == "list"]
     assert any(dv.formula1 == "list_cathode" for dv in dvs)
     pw = books["potentials"]
@@ -219,11 +223,12 @@ def test_write_then_check_command(
 # ----------------------------------------------------------------- CellSpec <-> inputs
 
 
-def test_spec_inputs_cover_every_sizing_input() -> None:
+def test_spec_values_cover_every_sizing_input() -> None:
     spec = CellSpec("LFP", "graphite", target_energy_Wh=100.0, cathode_areal_capacity_mAh_cm2=3.0,
                     cathode_binder={"PVDF": 0.7, "CMC": 0.3}, anode_binder="SBR",
-                    prices={"LFP": 7.0, "PE separator": (0.9, "USD/m^2")})
-    values = spec_inputs(spec, order_cells=1000)
+                    prices={"LFP": 7.0, "PE separator": (0.9, "USD/m^2"),
+                            "graphite": (6500.0, "USD/t")})
+    values = spec_values(spec, order_cells=1000)
     wb = TEMPLATES["cell_sizing"]()
     names = {n for n in wb.defined_names if n.startswith("in_")}
     assert set(values) == names - {"in_scenario"}
@@ -232,7 +237,8 @@ def test_spec_inputs_cover_every_sizing_input() -> None:
     assert values["in_anode_binder2"] is None and values["in_anode_binder2_share"] == 0.0
     assert values["in_price_cathode_active"] == 7.0
     assert values["in_price_unit_separator"] == "USD/m^2"
-    assert values["in_price_anode_active"] is None  # demo price list
+    assert values["in_price_anode_active"] == pytest.approx(6.5, rel=1e-12)  # USD/t -> USD/kg
+    assert values["in_price_anode_binder"] is None  # demo price list
     assert values["in_order_basis"] == "cells" and values["in_order_size"] == 1000.0
 
 
@@ -254,7 +260,7 @@ def test_fill_spec_refuses_what_one_workbook_cannot_hold() -> None:
     with pytest.raises(CellwrightError, match="single number"):
         fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=[10.0, 20.0],
                                cathode_loading_mg_cm2=20.0))
-    with pytest.raises(CellwrightError, match="USD/kg or USD/m\\^2"):
+    with pytest.raises(CellwrightError, match="USD/kg"):
         fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=10.0,
                                cathode_loading_mg_cm2=20.0, prices={"graphite": (5.0, "EUR/kg")}))
     with pytest.raises(CellwrightError, match="cell-sizing"):
@@ -285,7 +291,7 @@ def test_components_match_the_core_bill_of_materials() -> None:
     spec = demo_spec()
     names = []
     for c in COMPONENTS:
-        value = spec_inputs(spec)[c.material]
+        value = spec_values(spec)[c.material]
         if c.optional and value is None:
             continue
         names.append(c.core_name(str(value)))

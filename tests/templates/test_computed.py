@@ -23,10 +23,12 @@ from openpyxl.utils.cell import range_boundaries
 from udfs.app.demo import demo_spec
 from udfs.core.procurement import MaterialOrder, order_materials
 from udfs.core.sizing import CellDesign, CellSpec, design_cell
-from udfs.engine.model import Evaluation, load_model
+from udfs.core.sizing_table import CELL_SIZING, COMPONENTS
+from udfs.core.sizing_values import spec_from_values, spec_values
+from udfs.core.validate import Domain, FreeText, Names, Options
+from udfs.engine.model import Evaluation, WorkbookModel, load_model
 from udfs.sheet.error_values import SheetError
 from udfs.templates import TEMPLATES, fill_spec
-from udfs.templates.sizing_inputs import COMPONENTS, spec_inputs
 from udfs.templates.sizing_lists import ELEMENTS
 from udfs.templates.sizing_order import LOADING_AXIS, NP_AXIS
 from udfs.xlsx.refs import CellRef
@@ -139,7 +141,7 @@ def test_key_figures_equal_the_core(case: Any) -> None:
 def test_bill_of_materials_rows_equal_the_core(case: Any) -> None:
     wb, ev, d, _, spec = case
     first = _row_of(wb, "Bill of materials", COMPONENTS[0].label)
-    values = spec_inputs(spec)
+    values = spec_values(spec)
     seen = set()
     for i, comp in enumerate(COMPONENTS):
         row = first + i
@@ -192,7 +194,7 @@ def test_procurement_equals_the_core(case: Any) -> None:
     _close(ev.value("out_LCE_kg"), o.lce_kg, "LCE kg")
     assert float(o.metals_kg.get("Li", 0.0)) > 0
     first = _row_of(wb, "Procurement", COMPONENTS[0].label)
-    values = spec_inputs(spec)
+    values = spec_values(spec)
     for i, comp in enumerate(COMPONENTS):
         material = values[comp.material]
         if comp.optional and material is None:
@@ -312,3 +314,98 @@ def test_every_cell_is_free_of_error_values(case: Any, defaults: dict[str, Evalu
         assert all(not isinstance(nv.value, SheetError) for nv in outputs)
         bad = [str(ref) for ref, v in ev.values.items() if isinstance(v, SheetError)]
         assert not bad, bad[:10]
+
+
+# ----------------------------------------------------------------- input checks and names
+# One declaration per input (udfs.core.sizing_table): the workbook's check cells test the
+# same domain as the core, and a name is resolved once, beside its input.
+
+_FAILS = "a check fails: see Checks at the bottom"
+
+
+@pytest.fixture(scope="module")
+def sizing() -> tuple[Workbook, WorkbookModel]:
+    wb = TEMPLATES["cell_sizing"]()
+    buf = io.BytesIO()
+    wb.save(buf)
+    return wb, load_model(buf.getvalue(), "cell_sizing.xlsx")
+
+
+def _one_bad(name: str) -> Any:
+    """A value the input's domain refuses: past a bound, or an unknown word."""
+    d = CELL_SIZING.get(name).domain
+    if isinstance(d, Domain):
+        if d.lower is not None:
+            return d.lower if d.lower_open else d.lower - 1.0
+        return d.upper if d.upper_open else d.upper + 1.0  # type: ignore[operator]
+    if isinstance(d, Names):
+        return "no such material"
+    assert isinstance(d, Options)
+    return "sideways"
+
+
+def _check_cell(wb: Workbook, name: str) -> CellRef:
+    sheet, ref = next(iter(wb.defined_names[name].destinations))
+    return CellRef(sheet, int(ref.split("$")[-1]), 6)  # column F: the check cell of its row
+
+
+@pytest.mark.parametrize(
+    "name", [i.name for i in CELL_SIZING if not isinstance(i.domain, FreeText)]
+)
+def test_a_refused_value_shows_in_its_check_cell_and_the_summary(
+    sizing: tuple[Workbook, WorkbookModel], name: str
+) -> None:
+    wb, model = sizing
+    value = _one_bad(name)
+    reason = CELL_SIZING.reason(name, value)
+    assert reason is not None  # the core's check refuses it ...
+    ev = model.evaluate({name: value})
+    text = ev.value(_check_cell(wb, name))
+    assert isinstance(text, str) and text.endswith(f"must be {CELL_SIZING.get(name).allowed}")
+    assert ev.value("out_checks") == _FAILS  # ... and the workbook says so
+    assert model.evaluate().value(_check_cell(wb, name)) == "ok"
+
+
+def test_issue_reproduction_negative_np_ratio(sizing: tuple[Workbook, WorkbookModel]) -> None:
+    wb, model = sizing
+    ev = model.evaluate({"in_np_ratio": -1.0})
+    assert ev.value(_check_cell(wb, "in_np_ratio")) == "must be > 0"
+    assert ev.value("out_checks") == _FAILS
+
+
+def test_aliases_work_in_every_input_and_lookup(sizing: tuple[Workbook, WorkbookModel]) -> None:
+    # aliases and spellings the catalogue accepts (data/*.csv); LFP is used in our README
+    values = {"in_cathode": "LFP", "in_anode": " Graphite", "in_cathode_binder": "pvdf",
+              "in_separator": "pe separator", "in_cathode_foil": "Aluminium Foil"}
+    _, model = sizing
+    ev = model.evaluate(values)
+    assert ev.value("mat_cathode") == "LiFePO4" and ev.value("mat_separator") == "PE separator"
+    assert ev.value("out_checks") == "all checks pass"
+    bad = [str(ref) for ref, v in ev.values.items() if isinstance(v, SheetError)]
+    assert not bad, bad[:10]
+    d = design_cell(spec_from_values(values))
+    o = order_materials(d, order_MWh=100.0)
+    _close(ev.value("out_cost_per_kWh_USD"), d.cost_per_kWh_USD, "cost per kWh")
+    _close(ev.value("out_Wh_kg"), d.specific_energy_Wh_kg, "Wh/kg")
+    for el in ELEMENTS:
+        _close(ev.value(f"out_{el}_kg"), o.metals_kg.get(el, 0.0), f"{el} kg")
+    assert float(o.metals_kg["Fe"]) > 0  # LiFePO4's iron reached the metals
+
+
+def test_an_unknown_name_is_an_error_beside_its_input(
+    sizing: tuple[Workbook, WorkbookModel]
+) -> None:
+    _, model = sizing
+    ev = model.evaluate({"in_cathode": "LiFePO5"})
+    assert isinstance(ev.value("mat_cathode"), SheetError)
+    assert isinstance(ev.value("out_cost_per_kWh_USD"), SheetError)  # no number from it
+    assert ev.value("out_checks") == _FAILS
+    ev = model.evaluate({"in_cathode": "graphite"})  # a name of the wrong kind
+    assert isinstance(ev.value("mat_cathode"), SheetError)
+    assert ev.value("out_checks") == _FAILS
+
+
+def test_the_grid_check_row_agrees_with_the_bill_of_materials(case: Any) -> None:
+    wb, ev, d, _, _ = case
+    row = _row_of(wb, "What-if", "Cost per kWh from CW_CELL_DESIGN")
+    _close(ev.value(CellRef("What-if", row, 3)), d.cost_per_kWh_USD, "CW_CELL_DESIGN")

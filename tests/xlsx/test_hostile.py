@@ -19,12 +19,13 @@ import pytest
 from udfs.engine.model import load_model
 from udfs.sheet.error_values import SheetError
 from udfs.xlsx.file_errors import HostileFileError, WorkbookError
-from udfs.xlsx.guard import (
-    MAX_NESTING,
-    Limits,
-    formula_nesting,
-    inspect_package,
-)
+from udfs.xlsx.guard import MAX_NESTING, Limits, PackageReport, formula_nesting
+from udfs.xlsx.reader import read_workbook
+
+
+def inspect_package(data: bytes, name: str, limits: Limits | None = None) -> PackageReport:
+    """Every check of a workbook: the package's, then the sheets' while they are read."""
+    return read_workbook(data, name, limits or Limits()).report
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -270,7 +271,12 @@ def test_external_links_are_reported_and_not_followed():
     assert rep.external_links == ["file:///C:/secret/prices.xlsx"]
     assert any("external links not followed" in n for n in rep.notes)
     ev = load_model(data, "linked.xlsx").evaluate()
-    assert code(ev.value("S!A1")) == "#REF!"
+    # not evaluated: the formula and its cached value stay as they are, and it is listed
+    assert ev.value("S!A1") is None
+    assert any(
+        d.kind == "unsupported" and "external reference" in d.message and d.ref.coordinate == "A1"
+        for d in ev.diagnostics
+    )
 
 
 def test_circular_references_are_reported_not_looped():
@@ -431,10 +437,17 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         "compresses",
     ),
     Hostile(
-        "10,001 formula cells",
+        "200,001 formula cells (the default limit)",
+        lambda: _cells("".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, 200_002))),
+        1,
+        "more than 200,000 formula cells",
+    ),
+    Hostile(
+        "10,001 formula cells with --max-formulas 10000",
         lambda: _cells("".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, 10_002))),
         1,
         "more than 10,000 formula cells",
+        flags=("--max-formulas", "10000"),
     ),
     Hostile(
         "formula nested 65 deep (Excel: 64)",

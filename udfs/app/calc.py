@@ -82,7 +82,9 @@ def write_evaluation(
     :mod:`udfs.xlsx.writer`.
     """
     check_output_suffix(model, out)
-    data = write_results(model.package, evaluation.values, model.portable_refs(), mode)
+    frozen = {model.ref_of(k) for k in model.not_evaluated | model.untrusted}
+    values = {ref: v for ref, v in evaluation.values.items() if ref not in frozen}
+    data = write_results(model.package, values, model.portable_refs(), mode)
     write_bytes_atomic(out, data, force, inputs)
     return Path(out)
 

@@ -10,6 +10,10 @@ naming the file and row.
 'LiFePO4'
 >>> material("graphite").get("formula")
 'C6'
+>>> round(cycling("NMC811").reversible_capacity, 2)      # mAh/g, first charge x FCE
+200.25
+>>> recipe("graphite").binder
+(('CMC', 0.5), ('SBR', 0.5))
 """
 
 from __future__ import annotations
@@ -17,11 +21,13 @@ from __future__ import annotations
 import csv
 import math
 from collections.abc import Iterator, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
+from fractions import Fraction
 from functools import cache
 from pathlib import Path
 from types import MappingProxyType
 
+from .constants import AVOGADRO
 from .errors import CellwrightError, DataError, NotFoundError
 from .formula import Formula, parse
 from .names import closest, lookup, normalise
@@ -29,15 +35,22 @@ from .reactions import HalfReaction, parse_half_reaction
 
 __all__ = [
     "Couple",
+    "Cycling",
     "Fact",
     "Material",
+    "Recipe",
     "SpeciesData",
+    "UnitCell",
     "couple",
     "couple_ids",
+    "cycling",
     "data_dir",
     "material",
     "material_names",
+    "parse_unit_cell",
     "price",
+    "recipe",
+    "reload",
     "source_of",
     "species",
     "species_names",
@@ -125,13 +138,107 @@ class Fact:
 
 
 @dataclass(frozen=True)
+class Cycling:
+    """How an active material cycles, from its catalogue rows (mAh/g, V).
+
+    ``first_charge_capacity`` is what the material takes up or gives up on the
+    cell's first charge (a cathode is delithiated or desodiated, an anode
+    lithiated or sodiated), per g of active material; the reversible capacity
+    is that times ``first_cycle_efficiency``. Voltages are against
+    ``reference`` (``Li/Li+``, ``Na/Na+``): the average on discharge and the
+    usable window.
+    """
+
+    first_charge_capacity: float
+    first_cycle_efficiency: float
+    average_voltage: float
+    voltage_min: float
+    voltage_max: float
+    reference: str
+
+    @property
+    def reversible_capacity(self) -> float:
+        """mAh/g delivered on discharge and on later cycles: first charge x FCE."""
+        return self.first_charge_capacity * self.first_cycle_efficiency
+
+    @property
+    def first_cycle_loss(self) -> float:
+        """mAh/g lost on the first cycle (SEI, irreversible sites): first charge - reversible."""
+        return self.first_charge_capacity - self.reversible_capacity
+
+
+@dataclass(frozen=True)
+class Recipe:
+    """The usual coating of an electrode of one active material (dry mass
+    fractions, calendered porosity, usual loading and thickness per side).
+
+    ``binder`` lists binder materials with their share of ``binder_fraction``;
+    ``carbon`` is the conductive carbon, ``foil`` the current collector.
+    ``solids_density`` (g/cm^3, pore-free coating) is worked out from the
+    catalogue densities of the components, counting any remainder
+    1 - active - binder - carbon at the carbon's density.
+    """
+
+    material: str
+    active_fraction: float
+    binder_fraction: float
+    carbon_fraction: float
+    binder: tuple[tuple[str, float], ...]
+    carbon: str
+    foil: str
+    porosity: float
+    loading_mg_cm2: tuple[float, float]
+    thickness_um: tuple[float, float]
+    solids_density: float
+
+    @property
+    def other_fraction(self) -> float:
+        """Mass fraction not named (additives), 1 - active - binder - carbon (>= 0)."""
+        return max(1.0 - self.active_fraction - self.binder_fraction - self.carbon_fraction, 0.0)
+
+    @property
+    def coating_density(self) -> float:
+        """g/cm^3 of the calendered coating: solids density x (1 - porosity)."""
+        return self.solids_density * (1.0 - self.porosity)
+
+    def thickness_for(self, loading_mg_cm2: float) -> float:
+        """Coating thickness (um per side) of a loading (mg/cm^2 per side)."""
+        return loading_mg_cm2 * 10.0 / self.coating_density
+
+
+@dataclass(frozen=True)
+class UnitCell:
+    """A crystallographic unit cell: edges in angstrom, ``z`` formula units per cell."""
+
+    system: str
+    a: float
+    b: float
+    c: float
+    z: float
+
+    @property
+    def volume_A3(self) -> float:
+        if self.system == "hexagonal":
+            return math.sqrt(3.0) / 2.0 * self.a**2 * self.c
+        return self.a * self.b * self.c
+
+    def density(self, molar_mass: float) -> float:
+        """X-ray density, g/cm^3: Z M / (N_A V)."""
+        return self.z * molar_mass / (AVOGADRO * self.volume_A3 * 1e-24)
+
+
+@dataclass(frozen=True)
 class Material:
-    """An active or inactive material: named facts, each with its source."""
+    """An active or inactive material: named facts, each with its source, and
+    for electrode materials the typed :class:`Cycling` and :class:`Recipe`."""
 
     name: str
     active: bool
     facts: Mapping[str, Fact] = field(default_factory=dict)
     aliases: tuple[str, ...] = ()
+    cycling: Cycling | None = None
+    recipe: Recipe | None = None
+    unit_cell: UnitCell | None = None
 
     def get(self, prop: str) -> str:
         return self.facts[prop].value
@@ -200,15 +307,111 @@ def _species() -> Mapping[str, SpeciesData]:
     return MappingProxyType(out)
 
 
-_NUMERIC = {
-    "electrons": (0.01, 20.0),
-    "theoretical_capacity": (1.0, 5000.0),
-    "practical_capacity": (1.0, 5000.0),
-    "average_voltage": (-4.0, 6.0),
-    "density": (0.01, 25.0),
-    "porosity": (0.0, 1.0),
-    "thickness": (0.1, 5000.0),
+#: Numeric properties of the material tables: (lowest, highest, unit the row gives).
+_NUMERIC: dict[str, tuple[float, float, str]] = {
+    "electrons": (0.01, 20.0, ""),
+    "theoretical_capacity": (1.0, 5000.0, "mAh/g"),
+    "practical_capacity": (1.0, 5000.0, "mAh/g"),
+    "first_charge_capacity": (1.0, 5000.0, "mAh/g"),
+    "first_cycle_efficiency": (0.5, 1.0, ""),
+    "average_voltage": (-4.0, 6.0, "V"),
+    "voltage_min": (-4.0, 6.0, "V"),
+    "voltage_max": (-4.0, 6.0, "V"),
+    "density": (0.01, 25.0, "g/cm^3"),
+    "porosity": (0.0, 1.0, ""),
+    "thickness": (0.1, 5000.0, "um"),
+    "electrode_active_fraction": (0.5, 1.0, ""),
+    "electrode_binder_fraction": (0.0, 0.2, ""),
+    "electrode_carbon_fraction": (0.0, 0.2, ""),
+    "electrode_porosity": (0.05, 0.7, ""),
+    "electrode_loading_min": (0.5, 100.0, "mg/cm^2"),
+    "electrode_loading_max": (0.5, 100.0, "mg/cm^2"),
+    "electrode_thickness_min": (5.0, 500.0, "um"),
+    "electrode_thickness_max": (5.0, 500.0, "um"),
 }
+#: Text properties with a fixed set of values.
+_CHOICES: dict[str, tuple[str, ...]] = {
+    "voltage_reference": ("Li/Li+", "Na/Na+", "SHE"),
+    "density_basis": ("crystallographic", "true"),
+}
+#: Stored rows of the cycling record; the reversible capacity is derived from them.
+_CYCLING = (
+    "first_charge_capacity",
+    "first_cycle_efficiency",
+    "average_voltage",
+    "voltage_min",
+    "voltage_max",
+    "voltage_reference",
+    "theoretical_capacity",
+)
+#: Rows of a coating recipe: all or none.
+_RECIPE = (
+    "electrode_active_fraction",
+    "electrode_binder_fraction",
+    "electrode_carbon_fraction",
+    "electrode_binder",
+    "electrode_carbon",
+    "electrode_foil",
+    "electrode_porosity",
+    "electrode_loading_min",
+    "electrode_loading_max",
+    "electrode_thickness_min",
+    "electrode_thickness_max",
+)
+_UNIT_CELL_EDGES = {
+    "cubic": ("a",),
+    "tetragonal": ("a", "c"),
+    "hexagonal": ("a", "c"),
+    "orthorhombic": ("a", "b", "c"),
+}
+#: A recipe's fractions may exceed 1 by rounding only.
+_FRACTION_SUM_TOL = 1e-9
+
+
+def parse_unit_cell(text: str, where: str = "unit_cell") -> UnitCell:
+    """Read ``'hexagonal; a=2.864; c=14.17; Z=3'`` (edges in angstrom; Z may be
+    a fraction such as ``8/3``).
+
+    >>> round(parse_unit_cell("cubic; a=8.24; Z=8").volume_A3, 1)
+    559.5
+    """
+    parts = [p.strip() for p in text.split(";") if p.strip()]
+    if not parts or parts[0] not in _UNIT_CELL_EDGES:
+        raise DataError(
+            where, text, f"a crystal system first, one of {', '.join(_UNIT_CELL_EDGES)}"
+        )
+    system, values = parts[0], {}
+    for item in parts[1:]:
+        key, sep, number = (x.strip() for x in item.partition("="))
+        if not sep or key not in ("a", "b", "c", "Z") or key in values:
+            raise DataError(where, text, detail=f"unreadable or repeated entry {item!r}")
+        try:
+            values[key] = float(Fraction(number))
+        except (ValueError, ZeroDivisionError):
+            raise DataError(where, text, detail=f"{key} {number!r} is not a number") from None
+        if not (math.isfinite(values[key]) and values[key] > 0):
+            raise DataError(where, text, detail=f"{key} must be > 0")
+    needed = {*_UNIT_CELL_EDGES[system], "Z"}
+    if set(values) != needed:
+        raise DataError(where, text, detail=f"a {system} cell gives exactly {sorted(needed)}")
+    a = values["a"]
+    b = values.get("b", a)
+    c = values.get("c", a)
+    return UnitCell(system, a, b, c, values["Z"])
+
+
+def _binder_shares(text: str, where: str) -> tuple[tuple[str, float], ...]:
+    """``'PVDF'`` or ``'CMC=0.5; SBR=0.5'``: binder names and their shares (sum 1)."""
+    out: list[tuple[str, float]] = []
+    for item in (p.strip() for p in text.split(";")):
+        name, sep, share = (x.strip() for x in item.partition("="))
+        value = _number(share, where, "electrode_binder share", 0.0, 1.0) if sep else 1.0
+        if not name or value <= 0:
+            raise DataError(where, text, detail=f"unreadable binder entry {item!r}")
+        out.append((name, value))
+    if abs(sum(v for _, v in out) - 1.0) > 1e-9 or len({n for n, _ in out}) != len(out):
+        raise DataError(where, text, detail="binder shares must name each binder once and sum to 1")
+    return tuple(out)
 
 
 def _materials_from(name: str, active: bool) -> dict[str, Material]:
@@ -218,12 +421,25 @@ def _materials_from(name: str, active: bool) -> dict[str, Material]:
         where = f"{name} row {i}"
         mat, prop = row["material"], row["property"]
         if prop in _NUMERIC:
-            _number(row["value"], where, prop, *_NUMERIC[prop])
+            lo, hi, unit = _NUMERIC[prop]
+            _number(row["value"], where, prop, lo, hi)
+            if row.get("unit", "") != unit:
+                raise DataError(
+                    where, row.get("unit"), detail=f"{prop} is given in {unit or 'no unit'!r}"
+                )
+        if prop in _CHOICES and row["value"] not in _CHOICES[prop]:
+            raise DataError(where, row["value"], f"{prop} one of {', '.join(_CHOICES[prop])}")
+        if prop == "unit_cell":
+            parse_unit_cell(row["value"], where)
+        if prop == "electrode_binder":
+            _binder_shares(row["value"], where)
         if prop == "formula":
             try:
                 parse(row["value"], where)
             except CellwrightError as exc:
                 raise DataError(where, row["value"], detail=str(exc)) from None
+        if prop == "reversible_capacity":
+            raise DataError(where, prop, detail="reversible_capacity is derived, not stored")
         if prop == "alias":
             aliases.setdefault(mat, []).append(row["value"])
             continue
@@ -243,8 +459,114 @@ def _materials_from(name: str, active: bool) -> dict[str, Material]:
         missing = [p for p in needed if p not in fs]
         if missing:
             raise DataError(f"{name} {mat}", mat, detail=f"missing properties {missing}")
-        out[mat] = Material(mat, active, MappingProxyType(fs), tuple(aliases.get(mat, ())))
+        cyc = _cycling_of(f"{name} {mat}", fs) if active else None
+        if cyc is not None:
+            fs = {**fs, **_derived_capacity(cyc, fs)}
+        cell = parse_unit_cell(fs["unit_cell"].value) if "unit_cell" in fs else None
+        out[mat] = Material(
+            mat, active, MappingProxyType(fs), tuple(aliases.get(mat, ())), cyc, None, cell
+        )
     return out
+
+
+def _cycling_of(where: str, fs: Mapping[str, Fact]) -> Cycling | None:
+    """The cycling record of an active material with a first-charge capacity,
+    checked: every row of it present, the window around the average voltage,
+    no more than the theoretical capacity delivered (nor, for a cathode, charged)."""
+    if "first_charge_capacity" not in fs and "first_cycle_efficiency" not in fs:
+        return None
+    missing = [p for p in _CYCLING if p not in fs]
+    if missing:
+        raise DataError(where, None, detail=f"first-charge data without {missing}")
+    if "practical_capacity" in fs:
+        raise DataError(
+            where,
+            None,
+            detail="practical_capacity is derived (first charge x FCE) and may not be given too",
+        )
+    v = {p: float(fs[p].value) for p in _CYCLING if p != "voltage_reference"}
+    cyc = Cycling(
+        v["first_charge_capacity"],
+        v["first_cycle_efficiency"],
+        v["average_voltage"],
+        v["voltage_min"],
+        v["voltage_max"],
+        fs["voltage_reference"].value,
+    )
+    if not cyc.voltage_min < cyc.average_voltage < cyc.voltage_max:
+        raise DataError(where, cyc.average_voltage, detail="average_voltage outside the window")
+    limit = v["theoretical_capacity"] * 1.01
+    if cyc.reversible_capacity > limit:
+        raise DataError(where, cyc.reversible_capacity, detail="reversible above theoretical")
+    if fs["role"].value == "cathode" and cyc.first_charge_capacity > limit:
+        raise DataError(where, cyc.first_charge_capacity, detail="first charge above theoretical")
+    return cyc
+
+
+def _derived_capacity(cyc: Cycling, fs: Mapping[str, Fact]) -> dict[str, Fact]:
+    """``reversible_capacity`` and its older name ``practical_capacity``, both
+    first charge x FCE, with the sources of the two rows they come from."""
+    first, fce = fs["first_charge_capacity"], fs["first_cycle_efficiency"]
+    fact = Fact(
+        f"{cyc.reversible_capacity:.6g}",
+        "mAh/g",
+        f"computed: first_charge_capacity ({first.source}) x first_cycle_efficiency ({fce.source})",
+        f"reversible (discharge) capacity = {first.value} mAh/g x {fce.value}",
+    )
+    return {"reversible_capacity": fact, "practical_capacity": fact}
+
+
+def _recipe_of(m: Material, inactive: Mapping[str, Material]) -> Recipe | None:
+    """The coating recipe of an active material, its components checked
+    against the inactive table and its fractions summing to at most 1."""
+    fs = m.facts
+    present = [p for p in _RECIPE if p in fs]
+    if not present:
+        return None
+    where = f"active_materials.csv {m.name}"
+    missing = [p for p in _RECIPE if p not in fs]
+    if missing:
+        raise DataError(where, None, detail=f"recipe without {missing}")
+    num = {p: float(fs[p].value) for p in _RECIPE if p in _NUMERIC}
+    binder = _binder_shares(fs["electrode_binder"].value, where)
+    parts = [
+        *((n, "binder") for n, _ in binder),
+        (fs["electrode_carbon"].value, "conductive_carbon"),
+        (fs["electrode_foil"].value, "foil"),
+    ]
+    for part, category in parts:
+        if part not in inactive or inactive[part].role != category:
+            raise DataError(where, part, f"a {category} material of inactive_materials.csv")
+    active, bind, carbon = (
+        num["electrode_active_fraction"],
+        num["electrode_binder_fraction"],
+        num["electrode_carbon_fraction"],
+    )
+    if active + bind + carbon > 1.0 + _FRACTION_SUM_TOL:
+        raise DataError(where, active + bind + carbon, detail="recipe fractions sum above 1")
+    for lo_key, hi_key in (
+        ("electrode_loading_min", "electrode_loading_max"),
+        ("electrode_thickness_min", "electrode_thickness_max"),
+    ):
+        if not num[lo_key] < num[hi_key]:
+            raise DataError(where, num[lo_key], detail=f"{lo_key} not below {hi_key}")
+    carbon_rho = inactive[fs["electrode_carbon"].value].number("density")
+    other = max(1.0 - active - bind - carbon, 0.0)
+    volume = active / m.number("density") + (carbon + other) / carbon_rho
+    volume += sum(bind * share / inactive[n].number("density") for n, share in binder)
+    return Recipe(
+        m.name,
+        active,
+        bind,
+        carbon,
+        binder,
+        fs["electrode_carbon"].value,
+        fs["electrode_foil"].value,
+        num["electrode_porosity"],
+        (num["electrode_loading_min"], num["electrode_loading_max"]),
+        (num["electrode_thickness_min"], num["electrode_thickness_max"]),
+        1.0 / volume,
+    )
 
 
 @cache
@@ -254,6 +576,11 @@ def _materials() -> Mapping[str, Material]:
     both = set(active) & set(inactive)
     if both:
         raise DataError("materials", sorted(both), detail="names used in both tables")
+    for inert in inactive.values():
+        stray = [p for p in inert.facts if p in _CYCLING or p in _RECIPE]
+        if stray:
+            raise DataError(f"inactive_materials.csv {inert.name}", stray, "no electrode rows")
+    active = {k: replace(m, recipe=_recipe_of(m, inactive)) for k, m in active.items()}
     return MappingProxyType({**active, **inactive})
 
 
@@ -337,6 +664,27 @@ def material(name: str, argument: str = "name") -> Material:
     return _materials()[hit]
 
 
+def cycling(name: str, argument: str = "material") -> Cycling:
+    """The first-charge capacity, first-cycle efficiency and voltages of an
+    electrode material (those of the Li-ion and Na-ion families)."""
+    m = material(name, argument)
+    if m.cycling is None:
+        have = [k for k, v in _materials().items() if v.cycling is not None]
+        raise NotFoundError(argument, name, "material with first-charge data", closest(name, have))
+    return m.cycling
+
+
+def recipe(name: str, argument: str = "material") -> Recipe:
+    """The usual electrode recipe of an active material."""
+    m = material(name, argument)
+    if m.recipe is None:
+        have = [k for k, v in _materials().items() if v.recipe is not None]
+        raise NotFoundError(
+            argument, name, "material with an electrode recipe", closest(name, have)
+        )
+    return m.recipe
+
+
 def price(name: str, argument: str = "material") -> Fact:
     """The demo price of a material (invented demo data)."""
     m = material(name, argument)
@@ -372,6 +720,13 @@ def source_of(item: str, prop: str | None = None, argument: str = "id") -> str:
             return facts[key].source
     names = [*_couples(), *_materials(), *_species()]
     raise NotFoundError(argument, item, "couple, material or species", closest(item, names))
+
+
+def reload() -> None:
+    """Forget the loaded tables, so that the next look-up reads ``data/`` again
+    (after a CSV was edited)."""
+    for loader in (_couples, _species, _materials, _alias_index, _prices):
+        loader.cache_clear()
 
 
 def validate_all() -> dict[str, int]:

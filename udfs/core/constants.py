@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import math
 
+from .water import pkw_kelvin
+
 #: The SI defining constants (exact since 2019; CODATA 2018 lists them unchanged).
 #: Typed here once; a test checks them against pint's own definitions, so the
 #: package does not build a unit registry just to know F and R (it costs ~0.3 s).
@@ -29,9 +31,10 @@ T0: float = 273.15
 T_STANDARD: float = 298.15
 LN10: float = math.log(10.0)
 SECONDS_PER_HOUR: float = 3600.0
-#: pKw of water at 25 degC (CRC Handbook, "Ionization constant of water", 14.00 rounded;
-#: the tabulated value is 13.995).
-PKW_25C: float = 13.995
+#: pKw of liquid water at 25 degC from the temperature-dependent formulation
+#: (BANDURA2006, see :mod:`udfs.core.water`): 13.9949, printed as 13.995 in the
+#: CRC Handbook's table of the ionization constant of water.
+PKW_25C: float = float(pkw_kelvin(T_STANDARD))
 
 _TABLE: dict[str, tuple[float, str, str]] = {
     "F": (F, "C/mol", "Faraday constant (CODATA 2018, exact)"),
@@ -46,7 +49,11 @@ _TABLE: dict[str, tuple[float, str, str]] = {
         "V",
         "ln(10) RT/F at 25 degC, per decade and electron",
     ),
-    "PKW": (PKW_25C, "dimensionless", "pKw of water at 25 degC (CRC Handbook)"),
+    "PKW": (
+        PKW_25C,
+        "dimensionless",
+        "pKw of water at 25 degC (BANDURA2006; the potentials use pKw at their temperature)",
+    ),
 }
 
 

@@ -25,16 +25,33 @@ from . import catalogue
 from .capacity import ceil_count
 from .errors import InputError
 from .formula import atomic_weight, mass_fraction, molar_mass, parse
-from .sizing import CellDesign, _broadcast_shape, _check
-from .validate import FRACTION_OPEN, NONNEGATIVE, POSITIVE, integer_or_positive
+from .shapes import broadcast_shape
+from .sizing import CellDesign
+from .validate import (
+    FRACTION,
+    FRACTION_OPEN,
+    NONNEGATIVE,
+    POSITIVE,
+    POSITIVE_INTEGER,
+    UNIT_INTERVAL_HALF_OPEN,
+    check,
+)
 
 __all__ = [
     "LCE_FACTOR",
+    "LITHIUM_SALTS",
+    "METAL_SALTS",
+    "NMP_BINDERS",
+    "NON_METALS",
+    "BillLine",
     "MaterialOrder",
+    "PrecursorOrder",
+    "bill_lines",
     "composition",
     "lce",
     "metal_content",
     "order_materials",
+    "order_precursors",
 ]
 
 Array = NDArray[np.float64]
@@ -67,7 +84,7 @@ _ELECTROLYTE_SALTS: Mapping[str, tuple[str, float]] = MappingProxyType(
 )
 
 #: Elements not reported as "metals" (the other elements of the formulas are).
-_NON_METALS = frozenset(
+NON_METALS = frozenset(
     ("H", "He", "C", "N", "O", "F", "Ne", "P", "S", "Cl", "Ar", "Se", "Br", "Kr", "I", "Xe")
 )
 
@@ -78,7 +95,7 @@ def lce(lithium_mass: ArrayLike) -> Array | float:
     >>> round(lce(1.0), 4)
     5.3233
     """
-    m = _check("lithium_mass", lithium_mass, NONNEGATIVE)
+    m = check("lithium_mass", lithium_mass, NONNEGATIVE)
     out = m * LCE_FACTOR
     return float(out) if out.ndim == 0 else out
 
@@ -93,9 +110,9 @@ def metal_content(
     53.6
     """
     frac = mass_fraction(formula, element, "formula")
-    m = _check("material_mass", material_mass, NONNEGATIVE)
-    y = _check("yield", yield_, FRACTION_OPEN)
-    _broadcast_shape({"material_mass": m, "yield": y})
+    m = check("material_mass", material_mass, NONNEGATIVE)
+    y = check("yield", yield_, FRACTION_OPEN)
+    broadcast_shape({"material_mass": m, "yield": y})
     out = m / y * frac
     return float(out) if out.ndim == 0 else out
 
@@ -179,16 +196,16 @@ def order_materials(
     if not isinstance(design, CellDesign):
         raise InputError("design", design, "a CellDesign from design_cell")
     if order_cells is not None and order_MWh is None:
-        cells = _check("order_cells", order_cells, integer_or_positive("a whole number > 0"))
+        cells = check("order_cells", order_cells, POSITIVE_INTEGER)
     elif order_MWh is not None and order_cells is None:
-        mwh = _check("order_MWh", order_MWh, POSITIVE)
-        _broadcast_shape({"order_MWh": mwh, "design": design.energy_Wh})
+        mwh = check("order_MWh", order_MWh, POSITIVE)
+        broadcast_shape({"order_MWh": mwh, "design": design.energy_Wh})
         cells = ceil_count(mwh * 1e6 / design.energy_Wh)
     else:
         raise InputError(
             "order_cells", order_cells, detail="give exactly one of order_cells and order_MWh"
         )
-    shape = _broadcast_shape({"order": cells, "design": design.energy_Wh})
+    shape = broadcast_shape({"order": cells, "design": design.energy_Wh})
     wanted = _element_list(elements)
 
     def full(a: ArrayLike) -> Array:
@@ -215,7 +232,7 @@ def order_materials(
         for el, frac in comp.items():
             if el == "Li":
                 lithium = lithium + kg * frac
-            if (wanted is None and el in _NON_METALS) or (wanted is not None and el not in wanted):
+            if (wanted is None and el in NON_METALS) or (wanted is not None and el not in wanted):
                 continue
             metals[el] = metals.get(el, np.zeros(shape)) + kg * frac
     if wanted is not None:
@@ -231,4 +248,190 @@ def order_materials(
         lce_kg=full(lithium * LCE_FACTOR),
         materials_cost_USD=full(cells * design.cost_per_cell_USD),
         uncounted=tuple(uncounted),
+    )
+
+
+# --------------------------------------------------------------------------- bill lines
+
+
+@dataclass(frozen=True)
+class BillLine:
+    """One component of a cell with its net quantities per cell (no scrap, no
+    yield) on every basis a price may use: ``kg`` always; ``m2`` for sheets
+    (foils, separator); ``L`` for electrolytes (mass / catalogue density);
+    ``pieces`` (one per cell) for tabs and housings. ``None`` where the basis
+    does not apply. ``electrode`` marks coating and foil parts, which pass the
+    electrode step (and its scrap)."""
+
+    component: str
+    material: str
+    category: str
+    electrode: bool
+    kg: Array
+    m2: Array | None
+    L: Array | None
+    pieces: Array | None
+
+    def quantity(self, basis: str) -> Array | None:
+        """The quantity per cell on ``basis`` ('mass', 'area', 'volume', 'count')."""
+        return {"mass": self.kg, "area": self.m2, "volume": self.L, "count": self.pieces}[basis]
+
+
+#: Categories bought by the piece (one per cell and component).
+_PIECES = ("tab", "housing")
+
+
+def bill_lines(design: CellDesign) -> tuple[BillLine, ...]:
+    """The bill of materials of ``design`` as priceable lines (net per cell).
+
+    >>> from udfs.core.sizing import CellSpec, design_cell
+    >>> d = design_cell(CellSpec("LiFePO4", "graphite", target_capacity_Ah=20.0,
+    ...                          cathode_loading_mg_cm2=25.0))
+    >>> [(b.category, b.pieces is not None) for b in bill_lines(d)][-3:]
+    [('tab', True), ('tab', True), ('housing', True)]
+    """
+    if not isinstance(design, CellDesign):
+        raise InputError("design", design, "a CellDesign from design_cell")
+    out = []
+    for name, mass_g in design.components.items():
+        mat = catalogue.material(design.component_materials[name], "material")
+        category = mat.role
+        kg = np.asarray(mass_g, dtype=float) / 1000.0
+        area = design.component_areas_cm2.get(name)
+        out.append(
+            BillLine(
+                component=name,
+                material=mat.name,
+                category=category,
+                electrode=name in design.electrode_components,
+                kg=kg,
+                m2=None if area is None else np.asarray(area, dtype=float) / 1e4,
+                L=kg / mat.number("density") if category == "electrolyte" else None,
+                pieces=np.ones_like(kg) if category in _PIECES else None,
+            )
+        )
+    return tuple(out)
+
+
+# --------------------------------------------------------------------------- precursors
+
+#: Salts bought for the transition metals of a cathode (the sulfate hydrates of
+#: the co-precipitation route; common practice). Other metals have no route here.
+METAL_SALTS: Mapping[str, str] = MappingProxyType(
+    {"Ni": "NiSO4·6H2O", "Co": "CoSO4·7H2O", "Mn": "MnSO4·H2O"}
+)
+#: Lithium sources by name: the monohydrate hydroxide or the carbonate.
+LITHIUM_SALTS: Mapping[str, str] = MappingProxyType(
+    {"hydroxide": "LiOH·H2O", "carbonate": "Li2CO3"}
+)
+#: Iron phosphate (anhydrous) for phosphate cathodes: it brings Fe and P together.
+IRON_PHOSPHATE = "FePO4"
+#: Binders processed in N-methyl-2-pyrrolidone (NMP); the others in water (common practice).
+NMP_BINDERS = ("PVDF",)
+
+
+@dataclass(frozen=True)
+class PrecursorOrder:
+    """Precursor salts for the cathode active material of an order, and the NMP
+    solvent of the electrode slurries (tonnes; arrays broadcast with the design).
+
+    ``salts_t`` maps salt formula -> t to buy; ``no_salt_route`` names metals of
+    the cathode with no salt here (their t are in ``metals_t``). NMP: ``used``
+    is what the slurries hold, ``recovered`` what the dryers give back,
+    ``bought`` the make-up (used - recovered)."""
+
+    cathode: str
+    cathode_active_t: Array
+    metals_t: Mapping[str, Array]
+    salts_t: Mapping[str, Array]
+    no_salt_route: tuple[str, ...]
+    nmp_electrodes: tuple[str, ...]
+    nmp_used_t: Array
+    nmp_recovered_t: Array
+    nmp_bought_t: Array
+
+
+def order_precursors(
+    design: CellDesign,
+    order_cells: ArrayLike | None = None,
+    order_MWh: ArrayLike | None = None,
+    lithium_salt: str = "hydroxide",
+    lithium_excess: ArrayLike = 0.0,
+    synthesis_yield: ArrayLike = 1.0,
+    slurry_solids_fraction: ArrayLike = 0.65,  # common practice (NMP cathode slurries 0.6-0.75)
+    nmp_recovery: ArrayLike = 0.97,  # common practice (condensation/absorption 0.95-0.99)
+) -> PrecursorOrder:
+    """Salts for the cathode active material to buy (``order_materials``
+    quantities, scrap and yield included) and the NMP of the slurries.
+
+    salt [t] = metal in the cathode [t] * (1 + lithium_excess, Li only)
+    / synthesis_yield / (mass fraction of the metal in the salt).
+    Iron goes in as FePO4 when the cathode holds Fe and P. NMP used = coating
+    solids of every electrode with an NMP binder * (1 - s) / s, s the slurry
+    solids fraction; NMP bought = used * (1 - nmp_recovery).
+
+    >>> from udfs.core.sizing import CellSpec, design_cell
+    >>> d = design_cell(CellSpec("LiFePO4", "graphite", target_capacity_Ah=100.0,
+    ...                          cathode_loading_mg_cm2=25.0))
+    >>> p = order_precursors(d, order_cells=1000, lithium_salt="carbonate")
+    >>> sorted(p.salts_t), p.nmp_electrodes
+    (['FePO4', 'Li2CO3'], ('cathode',))
+    """
+    if not isinstance(design, CellDesign):
+        raise InputError("design", design, "a CellDesign from design_cell")
+    if not isinstance(lithium_salt, str) or lithium_salt.strip().lower() not in LITHIUM_SALTS:
+        raise InputError("lithium_salt", lithium_salt,
+                         f"one of {', '.join(repr(k) for k in LITHIUM_SALTS)}")
+    li_salt = LITHIUM_SALTS[lithium_salt.strip().lower()]
+    excess = check("lithium_excess", lithium_excess, UNIT_INTERVAL_HALF_OPEN)
+    syn = check("synthesis_yield", synthesis_yield, FRACTION_OPEN)
+    solids = check("slurry_solids_fraction", slurry_solids_fraction, FRACTION_OPEN)
+    recovery = check("nmp_recovery", nmp_recovery, FRACTION)
+    order = order_materials(design, order_cells=order_cells, order_MWh=order_MWh)
+    shape = broadcast_shape({"order": order.cells, "lithium_excess": excess,
+                              "synthesis_yield": syn, "slurry_solids_fraction": solids,
+                              "nmp_recovery": recovery})
+
+    def full(a: ArrayLike) -> Array:
+        return np.broadcast_to(np.asarray(a, dtype=float), shape)
+
+    cam_name = next(n for n in design.components if n.startswith("cathode active ("))
+    cam_t = order.buy_t[cam_name]
+    comp = composition(design.cathode) or {}
+    metals = {el: cam_t * w for el, w in comp.items() if el not in NON_METALS}
+    salts: dict[str, Array] = {}
+    no_route: list[str] = []
+    for el, t in metals.items():
+        if el == "Li":
+            salt, need = li_salt, t * (1.0 + excess)
+        elif el in METAL_SALTS:
+            salt, need = METAL_SALTS[el], t
+        elif el == "Fe" and "P" in comp:
+            salt, need = IRON_PHOSPHATE, t
+        else:
+            no_route.append(el)
+            continue
+        salts[salt] = full(need / syn / mass_fraction(salt, el))
+    nmp_sides = tuple(
+        side for side in ("cathode", "anode")
+        if any(n.startswith(f"{side} binder (") and design.component_materials[n] in NMP_BINDERS
+               for n in design.components)
+    )
+    solids_t = np.zeros(shape)
+    for side in nmp_sides:
+        for n in design.components:
+            if n.startswith((f"{side} active (", f"{side} binder (", f"{side} carbon (")):
+                solids_t = solids_t + order.buy_t[n]
+    used = solids_t * (1.0 - solids) / solids
+    recovered = used * recovery
+    return PrecursorOrder(
+        cathode=design.cathode,
+        cathode_active_t=full(cam_t),
+        metals_t=MappingProxyType({k: full(v) for k, v in metals.items()}),
+        salts_t=MappingProxyType(salts),
+        no_salt_route=tuple(no_route),
+        nmp_electrodes=nmp_sides,
+        nmp_used_t=full(used),
+        nmp_recovered_t=full(recovered),
+        nmp_bought_t=full(used - recovered),
     )

@@ -5,7 +5,9 @@ Notation: ``oxidised side = reduced side``, terms joined by ``+``, each species
 with its phase ``(s)``, ``(l)``, ``(g)`` or ``(aq)``, electrons as ``ne-`` on the
 left. Activity conventions: pure solids and liquids 1; gases their partial
 pressure in bar; dissolved species their concentration in mol/L; ``pH`` may give
-H+ (a = 10**-pH) and, through the water ion product, OH- (a = 10**(pH - pKw)).
+H+ (a = 10**-pH) and, through the water ion product, OH- (a = 10**(pH - pKw));
+pKw is the caller's (25 degC unless given: :func:`udfs.core.nernst.potential`
+passes pKw at its temperature).
 
 >>> r = parse_half_reaction("Cu2+(aq) + 2e- = Cu(s)")
 >>> r.electrons
@@ -230,12 +232,14 @@ def log10_quotient(
     reaction: HalfReaction,
     activities: Mapping[str, ArrayLike] | None = None,
     argument: str = "activities",
-    pkw: float = PKW_25C,
+    pkw: ArrayLike = PKW_25C,
 ) -> NDArray[np.float64]:
     """log10 of Q = prod(a_reduced**nu) / prod(a_oxidised**nu), broadcasting.
 
     Species not given are at their standard state (1 mol/L, 1 bar). Pure solids
-    and liquids have activity 1 and may not be given a value.
+    and liquids have activity 1 and may not be given a value. ``pkw`` (a number
+    or an array that broadcasts with the activities) turns a given pH into
+    log10 a(OH-) = pH - pKw.
     """
     given = dict(activities or {})
     ph = given.pop("pH", None)
@@ -277,7 +281,7 @@ def log10_quotient(
                     raise DomainError(
                         f"{argument} pH", float(p[~np.isfinite(p)].flat[0]), "a finite number"
                     )
-                log_a = -p if t.species == "H+" else p - pkw
+                log_a = -p if t.species == "H+" else p - np.asarray(pkw, dtype=float)
                 used_ph = True
             else:
                 continue

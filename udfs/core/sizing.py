@@ -33,15 +33,9 @@ from . import catalogue
 from .capacity import ceil_count, series_parallel
 from .errors import DomainError, InputError, NotFoundError, ShapeError, UnitError
 from .names import closest, normalise
+from .sizing_table import CELL_SIZING, binder_default
 from .units import conversion, dimension_of
-from .validate import (
-    FRACTION_OPEN,
-    NONNEGATIVE,
-    POSITIVE,
-    UNIT_INTERVAL_HALF_OPEN,
-    Domain,
-    check,
-)
+from .validate import FRACTION_OPEN, NONNEGATIVE, POSITIVE, Domain, Names, check
 
 __all__ = [
     "CellDesign",
@@ -66,8 +60,16 @@ _FRACTION_SUM_TOL = 1e-12
 # --------------------------------------------------------------------------- inputs
 
 
-def _cmc_sbr() -> dict[str, float]:
-    return {"CMC": 0.5, "SBR": 0.5}
+def _cathode_binder() -> Binder:
+    return binder_default("cathode")
+
+
+def _anode_binder() -> Binder:
+    return binder_default("anode")
+
+
+#: Field -> default, from the input table (each default with its basis is declared there).
+_D = CELL_SIZING.defaults()
 
 
 @dataclass(frozen=True)
@@ -76,7 +78,9 @@ class CellSpec:
 
     Give exactly one of ``target_capacity_Ah`` / ``target_energy_Wh`` and
     exactly one of ``cathode_loading_mg_cm2`` / ``cathode_areal_capacity_mAh_cm2``.
-    ``None`` elsewhere means "take it from the catalogue".
+    ``None`` elsewhere means "take it from the catalogue". The defaults, their
+    basis and every field's allowed values are declared once, in
+    :data:`udfs.core.sizing_table.CELL_SIZING`.
 
     >>> CellSpec("NMC811", "graphite", target_capacity_Ah=50.0,
     ...          cathode_loading_mg_cm2=[20.0, 25.0]).np_ratio
@@ -92,40 +96,40 @@ class CellSpec:
     cathode_specific_capacity_mAh_g: ArrayLike | None = None  # None: catalogue practical_capacity
     anode_specific_capacity_mAh_g: ArrayLike | None = None  # None: catalogue practical_capacity
     nominal_voltage_V: ArrayLike | None = None  # None: cathode minus anode average voltage
-    cathode_active_fraction: ArrayLike = 0.96  # common practice (94-97 wt% in Li-ion cathodes)
-    cathode_binder_fraction: ArrayLike = 0.02  # common practice
-    anode_active_fraction: ArrayLike = 0.96  # common practice (graphite 94-97 wt%)
-    anode_binder_fraction: ArrayLike = 0.03  # common practice (CMC + SBR 2-4 wt%)
-    cathode_porosity: ArrayLike = 0.25  # common practice (calendered 20-35 %)
-    anode_porosity: ArrayLike = 0.30  # common practice (calendered 25-40 %)
-    np_ratio: ArrayLike = 1.1  # common practice (1.05-1.2 for graphite anodes)
-    first_cycle_loss: ArrayLike = 0.08  # from memory (SEI formation on graphite, 5-12 %)
-    cathode_binder: Binder = "PVDF"  # common practice
-    anode_binder: Binder = field(default_factory=_cmc_sbr)  # common practice (water-based)
-    cathode_carbon: str = "carbon black"  # common practice
-    anode_carbon: str = "carbon black"  # common practice
-    cathode_foil: str = "aluminium foil"  # common practice
-    anode_foil: str = "copper foil"  # common practice
+    cathode_active_fraction: ArrayLike = _D["cathode_active_fraction"]
+    cathode_binder_fraction: ArrayLike = _D["cathode_binder_fraction"]
+    anode_active_fraction: ArrayLike = _D["anode_active_fraction"]
+    anode_binder_fraction: ArrayLike = _D["anode_binder_fraction"]
+    cathode_porosity: ArrayLike = _D["cathode_porosity"]
+    anode_porosity: ArrayLike = _D["anode_porosity"]
+    np_ratio: ArrayLike = _D["np_ratio"]
+    first_cycle_loss: ArrayLike = _D["first_cycle_loss"]
+    cathode_binder: Binder = field(default_factory=_cathode_binder)
+    anode_binder: Binder = field(default_factory=_anode_binder)
+    cathode_carbon: str = _D["cathode_carbon"]
+    anode_carbon: str = _D["anode_carbon"]
+    cathode_foil: str = _D["cathode_foil"]
+    anode_foil: str = _D["anode_foil"]
     cathode_foil_thickness_um: ArrayLike | None = None  # None: catalogue thickness of the foil
     anode_foil_thickness_um: ArrayLike | None = None  # None: catalogue thickness of the foil
-    separator: str = "PE separator"  # common practice
+    separator: str = _D["separator"]
     separator_thickness_um: ArrayLike | None = None  # None: catalogue thickness
     separator_porosity: ArrayLike | None = None  # None: catalogue porosity
-    electrolyte: str = "LiPF6 1M in EC:DMC"  # common practice
-    electrolyte_fill: ArrayLike = 1.1  # common practice (x pore volume)
-    cathode_tab: str = "aluminium tab"  # common practice
-    anode_tab: str = "nickel tab"  # common practice
-    tab_mass_g: ArrayLike = 2.0  # from memory (each of the two tabs, large pouch cell)
-    housing: str = "pouch laminate"  # common practice
-    housing_mass_g: ArrayLike = 15.0  # from memory (pouch of a 50-60 Ah cell)
-    width_mm: ArrayLike = 100.0  # from memory (cathode sheet, large pouch cell)
-    height_mm: ArrayLike = 300.0  # from memory
-    anode_overhang_mm: ArrayLike = 1.0  # common practice (0.5-2 mm each edge)
-    separator_overhang_mm: ArrayLike = 1.5  # common practice (beyond the anode, each edge)
-    volume_efficiency: ArrayLike = 0.85  # from memory (stack / cell volume, pouch)
+    electrolyte: str = _D["electrolyte"]
+    electrolyte_fill: ArrayLike = _D["electrolyte_fill"]  # x pore volume
+    cathode_tab: str = _D["cathode_tab"]
+    anode_tab: str = _D["anode_tab"]
+    tab_mass_g: ArrayLike = _D["tab_mass_g"]  # each of the two tabs
+    housing: str = _D["housing"]
+    housing_mass_g: ArrayLike = _D["housing_mass_g"]
+    width_mm: ArrayLike = _D["width_mm"]  # cathode sheet
+    height_mm: ArrayLike = _D["height_mm"]
+    anode_overhang_mm: ArrayLike = _D["anode_overhang_mm"]  # each edge
+    separator_overhang_mm: ArrayLike = _D["separator_overhang_mm"]  # beyond the anode
+    volume_efficiency: ArrayLike = _D["volume_efficiency"]  # stack / cell volume
     prices: Mapping[str, Price] | None = None  # None: the demo prices (invented demo data)
-    electrode_scrap: ArrayLike = 0.05  # from memory (coating, slitting, punching losses)
-    cell_yield: ArrayLike = 0.95  # from memory (good cells / cells built)
+    electrode_scrap: ArrayLike = _D["electrode_scrap"]
+    cell_yield: ArrayLike = _D["cell_yield"]
 
 
 # --------------------------------------------------------------------------- catalogue
@@ -138,30 +142,20 @@ class _Mat:
     facts: Mapping[str, catalogue.Fact]
 
 
-_ACTIVE = ("cathode", "anode")
-
-
 @lru_cache(maxsize=512)
-def _resolve(name: str, argument: str, kinds: tuple[str, ...]) -> _Mat:
-    """A catalogue material of one of ``kinds`` (role or category), cached."""
-    m = catalogue.material(name, argument)
-    if m.role not in kinds:
-        allowed = sorted({n for k in kinds for n in catalogue.material_names(k)})
-        raise InputError(
-            argument,
-            name,
-            detail=(
-                f"{m.name!r} is a {m.role} material; expected a {' or '.join(kinds)} material "
-                f"such as {', '.join(repr(a) for a in allowed[:8])}"
-            ),
-        )
+def _resolve(name: str, argument: str, names: Names) -> _Mat:
+    """A catalogue material allowed by ``names`` (aliases resolved), cached."""
+    m = catalogue.material(names.check(argument, name), argument)
     return _Mat(m.name, m.number("density"), m.facts)
 
 
-def _material(name: object, argument: str, *kinds: str) -> _Mat:
-    if not isinstance(name, str) or not name.strip():
-        raise InputError(argument, name, f"the name of a {' or '.join(kinds)} material (text)")
-    return _resolve(name, argument, kinds)
+def _material(name: object, argument: str) -> _Mat:
+    """The material a name input of the table (``argument``) names."""
+    names = CELL_SIZING.domain(argument)
+    assert isinstance(names, Names)
+    if not isinstance(name, str):
+        names.check(argument, name)  # raises: not text
+    return _resolve(name, argument, names)
 
 
 def _fact_number(mat: _Mat, prop: str, argument: str) -> float:
@@ -174,16 +168,16 @@ def _fact_number(mat: _Mat, prop: str, argument: str) -> float:
 
 
 def _binder_shares(value: object, argument: str) -> tuple[tuple[_Mat, float], ...]:
-    if isinstance(value, str):
-        return ((_material(value, argument, "binder"), 1.0),)
-    if not isinstance(value, Mapping) or not value:
+    if not isinstance(value, Mapping):  # one name (checked as the input table declares)
+        return ((_material(value, argument), 1.0),)
+    if not value:
         raise InputError(
             argument, value, "a binder name or a mapping name -> share (shares sum to 1)"
         )
     out = []
     for name, share in value.items():
         s = float(_check(f"{argument}[{name!r}]", share, FRACTION_OPEN))
-        out.append((_material(name, argument, "binder"), s))
+        out.append((_material(name, argument), s))
     total = sum(s for _, s in out)
     if abs(total - 1.0) > 1e-9:
         raise DomainError(argument, total, "shares that sum to 1")
@@ -253,14 +247,8 @@ def _unit_price(name: str, given: Mapping[str, tuple[Array, str]]) -> tuple[Arra
 
 
 def _check(name: str, value: object, domain: Domain) -> Array:
-    """Numbers only (no text, no empty values), then the domain check."""
-    try:
-        arr = np.asarray(value)
-    except (TypeError, ValueError):
-        arr = np.asarray(None)
-    if arr.dtype.kind not in "biuf":
-        raise InputError(name, value, "a number or an array of numbers")
-    return check(name, arr, domain)
+    """Numbers only (no text, booleans or empty values), then the domain check."""
+    return check(name, value, domain)  # type: ignore[arg-type]
 
 
 def _broadcast_shape(values: Mapping[str, Array]) -> tuple[int, ...]:
@@ -409,25 +397,21 @@ class CellDesign:
         return out
 
 
-_NUMERIC_DOMAINS: tuple[tuple[str, Domain], ...] = (
-    ("cathode_active_fraction", FRACTION_OPEN),
-    ("cathode_binder_fraction", UNIT_INTERVAL_HALF_OPEN),
-    ("anode_active_fraction", FRACTION_OPEN),
-    ("anode_binder_fraction", UNIT_INTERVAL_HALF_OPEN),
-    ("cathode_porosity", UNIT_INTERVAL_HALF_OPEN),
-    ("anode_porosity", UNIT_INTERVAL_HALF_OPEN),
-    ("np_ratio", POSITIVE),
-    ("first_cycle_loss", UNIT_INTERVAL_HALF_OPEN),
-    ("electrolyte_fill", NONNEGATIVE),
-    ("tab_mass_g", NONNEGATIVE),
-    ("housing_mass_g", NONNEGATIVE),
-    ("width_mm", POSITIVE),
-    ("height_mm", POSITIVE),
-    ("anode_overhang_mm", NONNEGATIVE),
-    ("separator_overhang_mm", NONNEGATIVE),
-    ("volume_efficiency", FRACTION_OPEN),
-    ("electrode_scrap", UNIT_INTERVAL_HALF_OPEN),
-    ("cell_yield", FRACTION_OPEN),
+def _numeric(field: str) -> Domain:
+    domain = CELL_SIZING.domain(field)
+    assert isinstance(domain, Domain)
+    return domain
+
+
+#: (field, domain) of the numeric inputs that always have a value.
+_NUMERIC_DOMAINS: tuple[tuple[str, Domain], ...] = tuple(
+    (inp.field, _numeric(inp.field))
+    for inp in CELL_SIZING
+    if inp.is_number and inp.field is not None and not inp.optional
+)
+#: Numeric fields whose blank (None) means "from the catalogue".
+_CATALOGUE_FIELDS = tuple(
+    inp.field for inp in CELL_SIZING if inp.is_number and inp.field and inp.optional
 )
 
 
@@ -454,48 +438,46 @@ def design_cell(spec: CellSpec) -> CellDesign:
     if not isinstance(spec, CellSpec):
         raise InputError("spec", spec, "a CellSpec")
     # ---- materials, resolved once (cached)
-    cath = _material(spec.cathode, "cathode", "cathode")
-    anod = _material(spec.anode, "anode", "anode")
+    cath = _material(spec.cathode, "cathode")
+    anod = _material(spec.anode, "anode")
     c_binders = _binder_shares(spec.cathode_binder, "cathode_binder")
     a_binders = _binder_shares(spec.anode_binder, "anode_binder")
-    c_carbon = _material(spec.cathode_carbon, "cathode_carbon", "conductive_carbon")
-    a_carbon = _material(spec.anode_carbon, "anode_carbon", "conductive_carbon")
-    c_foil = _material(spec.cathode_foil, "cathode_foil", "foil")
-    a_foil = _material(spec.anode_foil, "anode_foil", "foil")
-    sep = _material(spec.separator, "separator", "separator")
-    elyte = _material(spec.electrolyte, "electrolyte", "electrolyte")
-    c_tab = _material(spec.cathode_tab, "cathode_tab", "tab")
-    a_tab = _material(spec.anode_tab, "anode_tab", "tab")
-    housing = _material(spec.housing, "housing", "housing")
+    c_carbon = _material(spec.cathode_carbon, "cathode_carbon")
+    a_carbon = _material(spec.anode_carbon, "anode_carbon")
+    c_foil = _material(spec.cathode_foil, "cathode_foil")
+    a_foil = _material(spec.anode_foil, "anode_foil")
+    sep = _material(spec.separator, "separator")
+    elyte = _material(spec.electrolyte, "electrolyte")
+    c_tab = _material(spec.cathode_tab, "cathode_tab")
+    a_tab = _material(spec.anode_tab, "anode_tab")
+    housing = _material(spec.housing, "housing")
 
     # ---- numbers, validated (DomainError names the argument)
     v: dict[str, Array] = {
         name: _check(name, getattr(spec, name), dom) for name, dom in _NUMERIC_DOMAINS
     }
     target_name, target_value = _exactly_one(spec, "target_capacity_Ah", "target_energy_Wh")
-    v[target_name] = _check(target_name, target_value, POSITIVE)
+    v[target_name] = _check(target_name, target_value, _numeric(target_name))
     load_name, load_value = _exactly_one(
         spec, "cathode_loading_mg_cm2", "cathode_areal_capacity_mAh_cm2"
     )
-    v[load_name] = _check(load_name, load_value, POSITIVE)
-    optional = (
-        ("cathode_specific_capacity_mAh_g", POSITIVE, lambda: _fact_number(
-            cath, "practical_capacity", "cathode_specific_capacity_mAh_g")),
-        ("anode_specific_capacity_mAh_g", POSITIVE, lambda: _fact_number(
-            anod, "practical_capacity", "anode_specific_capacity_mAh_g")),
-        ("nominal_voltage_V", POSITIVE, lambda: _voltage(cath, anod)),
-        ("cathode_foil_thickness_um", POSITIVE, lambda: _fact_number(
-            c_foil, "thickness", "cathode_foil_thickness_um")),
-        ("anode_foil_thickness_um", POSITIVE, lambda: _fact_number(
-            a_foil, "thickness", "anode_foil_thickness_um")),
-        ("separator_thickness_um", POSITIVE, lambda: _fact_number(
-            sep, "thickness", "separator_thickness_um")),
-        ("separator_porosity", UNIT_INTERVAL_HALF_OPEN, lambda: _fact_number(
-            sep, "porosity", "separator_porosity")),
-    )
-    for name, dom, default in optional:
+    v[load_name] = _check(load_name, load_value, _numeric(load_name))
+    from_catalogue = {
+        "cathode_specific_capacity_mAh_g": lambda: _fact_number(
+            cath, "practical_capacity", "cathode_specific_capacity_mAh_g"),
+        "anode_specific_capacity_mAh_g": lambda: _fact_number(
+            anod, "practical_capacity", "anode_specific_capacity_mAh_g"),
+        "nominal_voltage_V": lambda: _voltage(cath, anod),
+        "cathode_foil_thickness_um": lambda: _fact_number(
+            c_foil, "thickness", "cathode_foil_thickness_um"),
+        "anode_foil_thickness_um": lambda: _fact_number(
+            a_foil, "thickness", "anode_foil_thickness_um"),
+        "separator_thickness_um": lambda: _fact_number(sep, "thickness", "separator_thickness_um"),
+        "separator_porosity": lambda: _fact_number(sep, "porosity", "separator_porosity"),
+    }
+    for name in _CATALOGUE_FIELDS:
         given = getattr(spec, name)
-        v[name] = _check(name, default() if given is None else given, dom)
+        v[name] = _check(name, from_catalogue[name]() if given is None else given, _numeric(name))
     prices = _user_prices(spec.prices)
     shape = _broadcast_shape({**v, **{f"prices[{k!r}]": a for k, (a, _) in prices.items()}})
 

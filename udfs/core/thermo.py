@@ -4,6 +4,24 @@ temperature coefficient dE/dT = dS/(nF), and the heat generation rate of a
 cell in operation (Bernardi, Pawlikowski and Newman 1985: irreversible
 I (U - V) plus reversible -I T dU/dT, current positive on discharge).
 
+Two routes to a cell's standard emf, kept apart on purpose:
+
+- the open-circuit voltage of :func:`udfs.core.nernst.ocv` takes the
+  tabulated standard potential of each couple (data/half_reactions.csv,
+  mostly the CRC electrochemical series: measured or critically evaluated
+  cells, couple by couple);
+- :attr:`CellThermo.emf` is -dG/(nF) with dG summed from the formation Gibbs
+  energies of the species (data/species.csv, NBS1982).
+
+The two tables were evaluated independently, from different measurements and
+auxiliary data, so a couple's tabulated E0 and its E0 from formation data
+(:func:`formation_e0`) differ: by under 5 mV for most couples, by 5 to 16 mV
+for Mg2+/Mg, Al3+/Al, ZnO/Zn, Zn(OH)2/Zn, Cu2+/Cu+, MnO2/Mn2+ and
+MnO4-/Mn2+, and by 20 to 40 mV for Ni2+/Ni, Fe3+/Fe and Fe2+/Fe
+(docs/sources.md lists each couple). A cell's two emfs differ by the
+difference of its two couples' offsets: 15 mV for the alkaline ZnO/Zn and
+MnO2/Mn2O3 pair, for example.
+
 >>> round(float(gibbs(1.10, 2)), 1)
 -212.3
 >>> round(float(heat_rate(10.0, 3.7, 3.6, -0.1, 25.0)), 3)   # W
@@ -24,7 +42,15 @@ from .constants import T0, T_STANDARD, F
 from .errors import NotFoundError
 from .validate import ANY, CELSIUS, ELECTRONS, NONNEGATIVE, check
 
-__all__ = ["CellThermo", "cell_reaction", "gibbs", "heat_rate", "reaction_thermo"]
+__all__ = [
+    "CellThermo",
+    "cell_reaction",
+    "entropy_de0dt",
+    "formation_e0",
+    "gibbs",
+    "heat_rate",
+    "reaction_thermo",
+]
 
 Array = NDArray[np.float64]
 
@@ -117,6 +143,47 @@ def _equation(net: dict[str, float]) -> str:
     left = [(s, -c) for s, c in net.items() if c < 0]
     right = [(s, c) for s, c in net.items() if c > 0]
     return f"{side(left)} -> {side(right)}"
+
+
+def _half_totals(c: Couple) -> tuple[float, float]:
+    """dG (kJ/mol) and dS (J/(mol K)) of Ox + (n/2) H2 -> Red + n H+ from the
+    formation data (H+ and the SHE at zero by convention)."""
+    dg = ds = 0.0
+    h2 = species("H2(g)", "species").S0
+    if h2 is None:  # pragma: no cover - the table has it
+        raise NotFoundError("species", "H2(g)", "S0 in the thermodynamic table")
+    for sign, terms in ((1.0, c.reaction.reduced), (-1.0, c.reaction.oxidised)):
+        for t in terms:
+            data = species(t.label, "species")
+            if data.dfG is None or data.S0 is None:
+                raise NotFoundError("species", t.label, "dfG and S0 in the thermodynamic table")
+            dg += sign * t.coefficient * data.dfG
+            ds += sign * t.coefficient * data.S0
+    ds -= c.electrons / 2.0 * h2
+    return dg, ds
+
+
+def formation_e0(couple_id: str) -> float:
+    """Standard potential (V vs SHE, 25 degC) of a catalogue couple from the
+    formation Gibbs energies of its species: -dG / (nF). Compare with the
+    tabulated E0 (:attr:`udfs.core.catalogue.Couple.e0`).
+
+    >>> round(formation_e0("Cu2+/Cu"), 4)       # the table (CRC-ECS) has 0.3419
+    0.3394
+    """
+    c = couple(couple_id, "couple")
+    return -_half_totals(c)[0] * 1000.0 / (c.electrons * F)
+
+
+def entropy_de0dt(couple_id: str) -> float:
+    """Isothermal dE0/dT (mV/K) of a catalogue couple from the standard
+    entropies: dS / (nF) for Ox + (n/2) H2 -> Red + n H+.
+
+    >>> round(entropy_de0dt("Br2/Br-"), 3)
+    -0.63
+    """
+    c = couple(couple_id, "couple")
+    return _half_totals(c)[1] / (c.electrons * F) * 1000.0
 
 
 def reaction_thermo(cathode_id: str, anode_id: str) -> CellThermo:

@@ -7,24 +7,36 @@ cached as a linear map ``value * scale + offset``, so hot loops never touch pint
 298.15
 >>> conversion("mAh/g", "Ah/kg")
 (1.0, 0.0)
+
+Unit text is checked by :func:`check_unit_text` before pint sees it (pint
+evaluates powers of numbers in unit text, so ``"9**9**9"`` would never return):
+at most :data:`MAX_UNIT_TEXT` characters of names, ``*``, ``/``, ``^`` or ``**``
+with a small exponent, parentheses and plain numbers as factors (``"1/h"``).
+
+>>> convert(1.0, "9**9**9", "C")
+Traceback (most recent call last):
+...
+udfs.core.errors.UnitError: unit: '9**9**9' is not a unit: a number cannot be raised to a power
 """
 
 from __future__ import annotations
 
 import difflib
 import math
+import re
+from fractions import Fraction
 from functools import cache, lru_cache
 from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .errors import UnitError
+from .errors import UnitError, show_value
 
 if TYPE_CHECKING:  # pint is imported on first use: a calculation without units never pays for it
     import pint
 
-__all__ = ["conversion", "convert", "dimension_of", "registry"]
+__all__ = ["MAX_UNIT_TEXT", "check_unit_text", "conversion", "convert", "dimension_of", "registry"]
 
 # Everyday spellings of the trade that pint does not know by itself.
 _ALIASES = {
@@ -113,6 +125,172 @@ _KNOWN = (
 
 _RANGE = "the conversion factor is outside the range of a floating-point number"
 
+# ------------------------------------------------------------------ the grammar of unit text
+
+#: The longest unit text accepted (real ones are under 30 characters).
+MAX_UNIT_TEXT = 100
+#: The largest exponent, and the largest numerator and denominator of a fractional one.
+MAX_EXPONENT = 12
+#: The deepest nesting of parentheses.
+MAX_DEPTH = 4
+
+_TOKENS = re.compile(
+    r"""
+    (?P<space>[ \t]+)
+  | (?P<number>(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,3})?)
+  | (?P<name>(?:[^\W\d]|[°%µ])[\w°%µ⁻]*)
+  | (?P<op>\*\*|[*/^()·⋅+-])
+    """,
+    re.VERBOSE,
+)
+_MULTIPLY = ("*", "/", "·", "⋅")
+_POWER = ("^", "**")
+
+
+class _Grammar:
+    """A recursive-descent reader of unit text that only checks it (pint parses
+    it afterwards). ``product := power ((* | / | ·) power | power)*``,
+    ``power := atom [(^ | **) exponent]``, ``atom := name | number | ( product )``,
+    ``exponent := [-|+]number | ([-|+]integer[/integer])``. A number may be a
+    factor (``1/h``) but never raised to a power, directly or inside
+    parentheses; exponents are at most MAX_EXPONENT; powers do not chain."""
+
+    def __init__(self, text: str):
+        self.tokens: list[tuple[str, str]] = []
+        pos = 0
+        while pos < len(text):
+            m = _TOKENS.match(text, pos)
+            if m is None:
+                raise ValueError(f"the character {text[pos]!r} has no place in a unit")
+            kind = m.lastgroup or ""
+            if kind != "space":
+                self.tokens.append((kind, m.group()))
+            pos = m.end()
+        self.pos = 0
+
+    def peek(self) -> tuple[str, str]:
+        return self.tokens[self.pos] if self.pos < len(self.tokens) else ("end", "")
+
+    def take(self) -> tuple[str, str]:
+        token = self.peek()
+        self.pos += 1
+        return token
+
+    def check(self) -> None:
+        if not self.tokens:
+            raise ValueError("it is empty")
+        self.product(0)
+        kind, value = self.peek()
+        if kind != "end":
+            raise ValueError(f"{value!r} is out of place")
+
+    def product(self, depth: int) -> bool:
+        """Reads a product; True if it holds a number."""
+        has_number = self.power(depth)
+        while True:
+            kind, value = self.peek()
+            if kind == "op" and value in _MULTIPLY:
+                self.take()
+            elif not (kind in ("name", "number") or value == "("):
+                return has_number
+            has_number = self.power(depth) or has_number
+
+    def power(self, depth: int) -> bool:
+        has_number = self.atom(depth)
+        kind, value = self.peek()
+        if kind == "op" and value in _POWER:
+            self.take()
+            if has_number:
+                raise ValueError("a number cannot be raised to a power")
+            self.exponent()
+            if self.peek()[1] in _POWER:
+                raise ValueError("powers of powers need parentheses, e.g. (m^2)^3")
+        return has_number
+
+    def atom(self, depth: int) -> bool:
+        kind, value = self.take()
+        if kind == "name":
+            return False
+        if kind == "number":
+            return True
+        if value == "(":
+            if depth >= MAX_DEPTH:
+                raise ValueError(f"parentheses nest deeper than {MAX_DEPTH}")
+            has_number = self.product(depth + 1)
+            if self.take()[1] != ")":
+                raise ValueError("a parenthesis is not closed")
+            return has_number
+        if kind == "end":
+            raise ValueError("it ends where a unit name is expected")
+        raise ValueError(f"{value!r} is out of place")
+
+    def exponent(self) -> None:
+        kind, value = self.take()
+        if value == "(":
+            sign = self.sign()
+            number = Fraction(self.integer())
+            if self.peek()[1] == "/":
+                self.take()
+                denominator = self.integer()
+                if denominator == 0:
+                    raise ValueError("an exponent divides by zero")
+                number /= denominator
+            if self.take()[1] != ")":
+                raise ValueError("a parenthesis is not closed")
+            self.limit(sign * number)
+            return
+        self.pos -= 1
+        sign = self.sign()
+        kind, value = self.take()
+        if kind == "end":
+            raise ValueError("it ends where an exponent is expected")
+        if kind != "number" or "e" in value.lower() or value.endswith("."):
+            raise ValueError(f"the exponent {value!r} is not a small number")
+        self.limit(sign * Fraction(value))
+
+    def sign(self) -> int:
+        if self.peek()[1] in ("-", "+"):
+            return -1 if self.take()[1] == "-" else 1
+        return 1
+
+    def integer(self) -> int:
+        kind, value = self.take()
+        if kind != "number" or not value.isdigit():
+            raise ValueError(f"the exponent {value!r} is not a small whole number")
+        number = int(value) if len(value) <= 3 else MAX_EXPONENT + 1
+        self.limit(Fraction(number))
+        return number
+
+    @staticmethod
+    def limit(value: Fraction) -> None:
+        if abs(value) > MAX_EXPONENT or value.denominator > MAX_EXPONENT:
+            raise ValueError(f"an exponent is larger than {MAX_EXPONENT} or too finely divided")
+
+
+def check_unit_text(text: str, argument: str = "unit") -> None:
+    """Refuse unit text that is no unit before pint evaluates it (in time
+    proportional to its length, and at most MAX_UNIT_TEXT characters of it).
+
+    >>> check_unit_text("J/(mol*K)"), check_unit_text("mg/cm^2"), check_unit_text("1/h")
+    (None, None, None)
+    >>> check_unit_text("2**2**40")
+    Traceback (most recent call last):
+    ...
+    udfs.core.errors.UnitError: unit: '2**2**40' is not a unit: a number cannot be raised to a power
+    """
+    if len(text) > MAX_UNIT_TEXT:
+        raise UnitError(
+            argument,
+            text,
+            detail=f"unit text of {len(text)} characters is too long (at most {MAX_UNIT_TEXT})",
+        )
+    try:
+        _Grammar(text).check()
+    except ValueError as exc:
+        raise UnitError(
+            argument, text, detail=f"{show_value(text, 40)} is not a unit: {exc}"
+        ) from None
+
 
 @cache
 def registry() -> pint.UnitRegistry:
@@ -129,6 +307,7 @@ def _parse(text: str, argument: str) -> pint.Unit:
         raise UnitError(argument, text, "a unit such as 'Ah', 'mAh/g' or 'kWh'")
     cleaned = text.strip()
     cleaned = _ALIASES.get(cleaned, _ALIASES.get(cleaned.lower(), cleaned))
+    check_unit_text(cleaned, argument)  # before pint evaluates anything in it
     reg = registry()
     try:
         unit = reg.parse_units(cleaned.replace("^", "**"))
@@ -146,6 +325,7 @@ def conversion(from_unit: str, to_unit: str, argument: str = "unit") -> tuple[fl
     dst = _parse(to_unit, argument)
     reg = registry()
     from pint import DimensionalityError  # imported by registry() already
+
     try:
         zero = reg.Quantity(0.0, src).to(dst).magnitude
         one = reg.Quantity(1.0, src).to(dst).magnitude

@@ -7,6 +7,6 @@ True
 
 from __future__ import annotations
 
-from .model import Evaluation, WorkbookModel, load_model
+from .model import Diagnostic, Evaluation, WorkbookModel, clear_cache, load_model
 
-__all__ = ["Evaluation", "WorkbookModel", "load_model"]
+__all__ = ["Diagnostic", "Evaluation", "WorkbookModel", "clear_cache", "load_model"]

@@ -1,97 +1,106 @@
-"""One adapter between the `formulas` engine and our spreadsheet functions.
+"""Our spreadsheet functions inside the `formulas` engine, and values across the seam.
 
-Every function of ``udfs.sheet.registry.FUNCTIONS`` is registered in the
-engine under its spreadsheet name, wrapped in :class:`SheetFunctionAdapter`:
+The ``formulas`` package documents its function table (``get_functions()``) as
+the place to add functions. Every ``CW_`` function of ``udfs.sheet.registry``
+is added there under its spreadsheet name (and ``_XLUDF.`` + name, the prefix
+Excel writes for add-in functions it did not know when saving), wrapped in
+:class:`SheetFunction`:
 
 * engine inputs become plain cell values: a one-cell range or a scalar becomes
-  a scalar, a larger range a 2-D list; an empty cell becomes ``None``; numpy
-  scalars become ``float``/``int``/``bool``; an engine error value becomes a
-  :class:`~udfs.sheet.error_values.SheetError` with the same code. An error passed
-  as a single value is propagated without calling the function, as
-  spreadsheets do; inside a range it reaches the function as an element, so
-  only that element's result is an error;
-* the result comes back: a :class:`SheetError` becomes the engine's own error
-  value of the same code (so IFERROR, ISERROR and propagation work); NaN and
-  infinity become ``#NUM!``; a 2-D list becomes an engine array, which fills
-  an array-formula range (and shows its top-left value in a one-cell formula);
-* an exception escaping a sheet function (a bug: they should return errors)
-  becomes ``#VALUE!``; its message is kept, like every error message, in
-  :data:`MESSAGES` so the engine can report it beside the cell.
+  a scalar, a larger range a 2-D list; an empty cell ``None``; numpy scalars
+  Python numbers; an engine error value a :class:`SheetError` (the function
+  decides what an error argument means: the leftmost bad argument wins, as
+  with the add-in);
+* results come back as engine values: a :class:`SheetError` becomes the
+  engine's error value of the same code (so IFERROR and propagation work),
+  a non-finite number ``#NUM!``, a 2-D list an engine array;
+* each error's message is handed to the :class:`Messages` collector the
+  evaluator opens around the cell (or block of cells) it computes, so every
+  cell gets its own message; an exception escaping a sheet function becomes
+  ``#VALUE!`` with its type in the message.
 
->>> from udfs.sheet.error_values import SheetError
->>> def half(x):
-...     return x / 2 if isinstance(x, (int, float)) else SheetError("#VALUE!", "x: a number")
->>> f = SheetFunctionAdapter("CW_HALF", half)
->>> f(3.0), str(f("text"))
-(1.5, '#VALUE!')
->>> SheetFunctionAdapter("CW_PAIR", lambda x: [[x, 2 * x]])(2.0).tolist()
-[[2.0, 4.0]]
+Our deliberate changes to Excel's own functions live in
+:mod:`udfs.engine.deviations`, registered from :func:`ensure_registered` too.
+
+>>> f = SheetFunction("CW_HALF", lambda x: (np.asarray(x) / 2).tolist())
+>>> f(3.0), to_cell(f(np.array([[2.0, 4.0]], dtype=object))[0, 1])
+(1.5, 2.0)
 """
 
 from __future__ import annotations
 
-import functools
+import contextlib
+import contextvars
 import math
-import threading
-from collections import OrderedDict
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterator, Mapping
 from typing import Any
 
 import numpy as np
 import schedula as sh
-from formulas.errors import RangeValueError
 from formulas.functions import Array, get_functions
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Error, XlError
 
 from udfs.sheet.error_values import CODES, CellValue, SheetError
 
-from . import lookup
-from .deferred_scipy import import_statistics
-
-import_statistics()  # before get_functions(): SciPy waits until a function needs it
+from . import deviations
 
 __all__ = [
-    "MESSAGES",
-    "CellValue",
-    "SheetFunctionAdapter",
+    "Messages",
+    "SheetFunction",
     "ensure_registered",
-    "from_engine",
-    "generation",
-    "messages_for",
+    "error_value",
     "register",
     "registered_names",
-    "sheet_functions",
+    "to_cell",
     "to_engine",
 ]
 
-MAX_MESSAGES_PER_FUNCTION = 20
-
-#: function name -> recent distinct error messages (most recent last), bounded.
-MESSAGES: dict[str, OrderedDict[str, None]] = {}
-_lock = threading.Lock()
+_CURRENT: contextvars.ContextVar[Messages | None] = contextvars.ContextVar(
+    "cellwright_messages", default=None
+)
 _registered: dict[str, Callable[..., Any]] = {}
 _generation = 0
 
 
-def _remember(name: str, message: str) -> None:
-    with _lock:
-        box = MESSAGES.setdefault(name, OrderedDict())
-        box.pop(message, None)
-        box[message] = None
-        while len(box) > MAX_MESSAGES_PER_FUNCTION:
-            box.popitem(last=False)
+class Messages:
+    """Error messages of one evaluation step: (flat element index or None, message).
+
+    >>> with Messages.collect() as box:
+    ...     _ = to_engine(SheetError("#NUM!", "mass_g must be >= 0 (got -1)"), "CW_X")
+    >>> box.items
+    [(None, 'CW_X: #NUM! mass_g must be >= 0 (got -1)')]
+    """
+
+    def __init__(self) -> None:
+        self.items: list[tuple[int | None, str]] = []
+
+    @classmethod
+    @contextlib.contextmanager
+    def collect(cls) -> Iterator[Messages]:
+        box = cls()
+        token = _CURRENT.set(box)
+        try:
+            yield box
+        finally:
+            _CURRENT.reset(token)
 
 
-def messages_for(name: str) -> list[str]:
-    """Recent error messages of the function ``name`` (most recent last)."""
-    with _lock:
-        return list(MESSAGES.get(name.upper(), ()))
+def _say(name: str, message: str, index: int | None = None) -> None:
+    box = _CURRENT.get()
+    if box is not None:
+        box.items.append((index, f"{name}: {message}" if name else message))
 
 
-def from_engine(value: Any) -> CellValue:
+def error_value(code: str) -> XlError:
+    """The engine's error value for ``code`` (#VALUE! for codes it does not know)."""
+    return Error.errors.get(code, Error.errors["#VALUE!"])
+
+
+def to_cell(value: Any) -> CellValue:
     """One engine value as a plain cell value (errors as SheetError)."""
-    if type(value) is float:
+    t = type(value)
+    if t is float or t is str or t is bool:
         return value
     if value is sh.EMPTY or value is None:
         return None
@@ -102,86 +111,75 @@ def from_engine(value: Any) -> CellValue:
         return bool(value)
     if isinstance(value, np.generic):
         value = value.item()
-    if isinstance(value, (int, float, str)):
+    if isinstance(value, int):
+        return float(value)
+    if isinstance(value, (float, str)):
         return value
-    if isinstance(value, np.ndarray) and value.size == 1:
-        return from_engine(value.reshape(-1)[0])
+    if isinstance(value, Ranges):
+        value = value.value
+    if isinstance(value, np.ndarray):
+        return value if value.size != 1 else to_cell(value.reshape(-1)[0])  # type: ignore[return-value]
     return SheetError("#VALUE!", f"unsupported engine value {type(value).__name__}")
 
 
 def _argument(arg: Any) -> CellValue | list[list[CellValue]]:
     """An engine argument as a scalar or a 2-D list of cell values."""
     if isinstance(arg, Ranges):
-        arg = arg.value  # raises RangeValueError while the engine compiles
+        arg = arg.value
     if isinstance(arg, np.ndarray):
-        if arg.shape == (1, 1):
-            return from_engine(arg[0, 0])
-        if arg.ndim == 0:
-            return from_engine(arg.item())
-        grid = arg.reshape(1, -1) if arg.ndim == 1 else arg
+        grid = arg.reshape(1, -1) if arg.ndim < 2 else arg
         if grid.shape == (1, 1):
-            return from_engine(grid[0, 0])
-        return [[from_engine(v) for v in row] for row in grid.tolist()]
-    return from_engine(arg)
+            return to_cell(grid[0, 0])
+        return [[to_cell(v) for v in row] for row in grid.tolist()]
+    return to_cell(arg)
 
 
-def _error(code: str) -> XlError:
-    return Error.errors.get(code, Error.errors["#VALUE!"])
-
-
-def to_engine(result: Any, name: str = "") -> Any:
+def to_engine(result: Any, name: str = "", index: int | None = None) -> Any:
     """A sheet function's result as an engine value (scalar or 2-D Array)."""
     if type(result) is float and result - result == 0.0:  # finite
         return result
     if isinstance(result, SheetError):
-        if name:
-            _remember(name, str(result))
-        return _error(result.code)
+        _say(name, str(result), index)
+        return error_value(result.code)
     if result is None:
         return sh.EMPTY
     if isinstance(result, (bool, np.bool_)):
         return bool(result)
     if isinstance(result, np.generic):
         result = result.item()
-    if isinstance(result, int):
+    if isinstance(result, (int, str)):
         return result
     if isinstance(result, float):
         if math.isfinite(result):
             return result
-        if name:
-            _remember(name, f"#NUM! result is {result} (not a finite number)")
-        return _error("#NUM!")
-    if isinstance(result, str):
-        return result
+        _say(name, f"#NUM! the result is {result} (not a finite number)", index)
+        return error_value("#NUM!")
     if isinstance(result, (list, tuple, np.ndarray)):
         return _array(result, name)
-    if name:
-        _remember(name, f"#VALUE! returned an unsupported {type(result).__name__}")
-    return _error("#VALUE!")
+    _say(name, f"#VALUE! returned an unsupported {type(result).__name__}", index)
+    return error_value("#VALUE!")
 
 
 def _array(result: Any, name: str) -> Any:
-    rows = np.asarray(result, dtype=object) if not isinstance(result, np.ndarray) else result
+    rows = result if isinstance(result, np.ndarray) else np.asarray(result, dtype=object)
     if rows.ndim == 1:
         rows = rows.reshape(1, -1)
-    if rows.ndim != 2 or rows.size == 0:
-        if name:
-            _remember(name, f"#VALUE! returned an array of shape {rows.shape}; 2-D expected")
-        return _error("#VALUE!")
+    if rows.ndim != 2 or rows.size == 0 or (rows.dtype != object and rows.dtype.kind not in "fiub"):
+        _say(name, f"#VALUE! returned an array of shape {rows.shape}; 2-D expected")
+        return error_value("#VALUE!")
     out = np.empty(rows.shape, dtype=object)
-    for idx, v in np.ndenumerate(rows):
+    for i, v in enumerate(rows.reshape(-1).tolist()):
         if isinstance(v, (list, tuple, np.ndarray)):
-            return _error("#VALUE!")
-        out[idx] = to_engine(v, name)
+            _say(name, "#VALUE! returned nested arrays")
+            return error_value("#VALUE!")
+        out.flat[i] = to_engine(v, name, i)
     if out.shape == (1, 1):
         return out[0, 0]
-    arr = out.view(Array)
-    arr._collapse_value = out[0, 0]  # one-cell formula: show the top-left value
-    return arr
+    return out.view(Array)
 
 
-class SheetFunctionAdapter:
-    """The engine-facing callable of one sheet function (picklable by reference)."""
+class SheetFunction:
+    """The engine-facing callable of one sheet function."""
 
     def __init__(self, name: str, func: Callable[..., Any]):
         self.name = name.upper()
@@ -190,86 +188,38 @@ class SheetFunctionAdapter:
         self.__doc__ = getattr(func, "__doc__", None)
 
     def __repr__(self) -> str:
-        return f"SheetFunctionAdapter({self.name})"
+        return f"SheetFunction({self.name})"
 
     def __call__(self, *args: Any) -> Any:
-        try:
-            values = [_argument(a) for a in args]
-        except RangeValueError:
-            return sh.NONE  # the engine is still compiling: no value yet
-        # error values from other cells go in as SheetError: the function decides, as
-        # in Excel with the add-in (the leftmost bad argument, error or not, wins)
+        values = [_argument(a) for a in args]
         try:
             result = self.func(*values)
         except Exception as exc:  # a sheet function must not raise; never let it escape
-            _remember(self.name, f"#VALUE! {type(exc).__name__}: {exc}")
-            return _error("#VALUE!")
+            _say(self.name, f"#VALUE! internal error {type(exc).__name__}: {exc}")
+            return error_value("#VALUE!")
         return to_engine(result, self.name)
 
 
-def sheet_functions() -> dict[str, Callable[..., Any]]:
-    """The registry of the spreadsheet functions (empty until udfs.sheet provides it)."""
-    try:
-        from udfs.sheet import registry
-    except ImportError:
-        return {}
-    return dict(getattr(registry, "FUNCTIONS", {}))
+def _sheet_functions() -> Mapping[str, Callable[..., Any]]:
+    from udfs.sheet import registry
 
-
-#: Excel's ROUND family with a digits argument past this is refused as #NUM!; the
-#: `formulas` package computes 10**digits and would hang on ROUND(x, 1E+300).
-MAX_ROUND_DIGITS = 1000
-
-
-def _bound_round_digits() -> None:
-    """Replace ROUND, ROUNDUP and ROUNDDOWN by versions that refuse absurd digits
-    (same results otherwise: the package's own element-wise function is called)."""
-    from formulas.functions import math as xl_math
-    from formulas.functions import wrap_ufunc
-
-    def bounded(inner: Callable[..., Any]) -> Callable[..., Any]:
-        def element(x: Any, d: Any) -> Any:
-            if not abs(float(d)) <= MAX_ROUND_DIGITS:
-                return Error.errors["#NUM!"]
-            return inner(x, d)
-
-        return wrap_ufunc(element)
-
-    table = get_functions()
-    for name, inner in (
-        ("ROUND", xl_math.xround),
-        ("ROUNDDOWN", functools.partial(xl_math.xround, func=math.floor)),
-        ("ROUNDUP", functools.partial(xl_math.xround, func=math.ceil)),
-    ):
-        table[name] = bounded(inner)
-        ROUNDING[table[name]] = inner
-
-
-#: the installed ROUND, ROUNDDOWN and ROUNDUP -> their element function of (float, float)
-ROUNDING: dict[Callable[..., Any], Callable[[float, float], Any]] = {}
-
-
-_bound_round_digits()
-lookup.install(get_functions())  # INDEX without a reference object per cell of its range
+    return registry.FUNCTIONS
 
 
 def register(functions: Mapping[str, Callable[..., Any]]) -> int:
-    """Register ``functions`` in the engine under their (upper-case) names.
-
-    Also under ``_XLUDF.NAME``, the prefix Excel writes for user-defined
-    functions it did not know when saving. Returns the registry generation,
-    which changes whenever a registration changes (compiled models depend on it).
-    """
+    """Register sheet functions (name -> callable on plain cell values) in the engine's
+    table, with our deviations; returns a generation number that changes with every
+    change (models planned earlier are then planned again)."""
     global _generation
     table = get_functions()
-    changed = False
+    changed = deviations.install(table)
     for name, func in functions.items():
         key = name.upper()
         if _registered.get(key) is func:
             continue
-        adapter = SheetFunctionAdapter(key, func)
-        table[key] = adapter
-        table["_XLUDF." + key] = adapter
+        wrapped = SheetFunction(key, func)
+        table[key] = wrapped
+        table["_XLUDF." + key] = wrapped
         _registered[key] = func
         changed = True
     if changed:
@@ -278,15 +228,11 @@ def register(functions: Mapping[str, Callable[..., Any]]) -> int:
 
 
 def ensure_registered() -> int:
-    """Register the current ``udfs.sheet`` functions (cheap when nothing changed)."""
-    return register(sheet_functions())
-
-
-def generation() -> int:
-    """The registry generation (see :func:`register`)."""
-    return _generation
+    """Register the spreadsheet functions of ``udfs.sheet`` (cheap when nothing changed)."""
+    return register(_sheet_functions())
 
 
 def registered_names() -> list[str]:
-    """Names of the sheet functions registered so far, sorted."""
+    """Names of our registered sheet functions, sorted."""
+    ensure_registered()
     return sorted(_registered)

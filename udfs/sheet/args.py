@@ -1,6 +1,7 @@
-"""Declarations of spreadsheet arguments: what each one accepts, its unit, its
-default, and the value that stands in for a bad element during the one
-vectorised core call.
+"""Declarations of what a spreadsheet function takes and gives: its arguments
+(what each one accepts, its unit, its default, and the value that stands in for
+a bad element during the one vectorised core call) and the :class:`Kind` of its
+result. :mod:`udfs.sheet.declare` re-exports all of them.
 
 >>> from udfs.core.validate import CELSIUS, POSITIVE
 >>> Num("mass_g", "mass, g", POSITIVE).signature_text
@@ -13,6 +14,7 @@ vectorised core call.
 
 from __future__ import annotations
 
+import enum
 import math
 from collections.abc import Callable
 
@@ -20,7 +22,16 @@ import numpy as np
 
 from ..core.validate import ANY, Domain
 
-__all__ = ["REQUIRED", "Activities", "Arg", "Num", "Text"]
+__all__ = ["REQUIRED", "Activities", "Arg", "Kind", "Num", "Table", "Text"]
+
+
+class Kind(enum.Enum):
+    """What a function returns."""
+
+    NUMBER = "number"  # one number per element
+    VALUE = "value"  # one number or text per element
+    COLUMN = "column"  # a list that spills down (no broadcasting)
+    RECORD = "record"  # a fixed row of numbers per element, spilling to the right
 
 
 class _Required:
@@ -47,7 +58,7 @@ def _scalar_test(domain: Domain) -> Callable[[float], bool]:
     if domain is ANY:
         return math.isfinite
     test = domain.test
-    return lambda x: math.isfinite(x) and bool(test(x))  # type: ignore[arg-type]
+    return lambda x: math.isfinite(x) and bool(test(x))
 
 
 class Arg:
@@ -56,6 +67,9 @@ class Arg:
 
     __slots__ = ("default", "doc", "name")
     is_number = False
+    #: One scalar per element of a broadcast (False: the argument may be a whole
+    #: range read as one value, such as a table).
+    per_element = True
 
     def __init__(self, name: str, doc: str, default: object = REQUIRED):
         self.name = name
@@ -113,3 +127,13 @@ class Activities(Text):
     as one mapping, not broadcast)."""
 
     __slots__ = ()
+    per_element = False
+
+
+class Table(Arg):
+    """A two-column range of names and values (numbers, texts or empty cells),
+    read as one mapping name -> value and not broadcast: a model's inputs
+    passed in one argument (see :func:`udfs.sheet.coerce.table_arg`)."""
+
+    __slots__ = ()
+    per_element = False

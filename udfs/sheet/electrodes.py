@@ -11,8 +11,7 @@ from typing import Any
 
 from ..core import capacity
 from ..core.validate import FRACTION_OPEN, NONNEGATIVE, POSITIVE, UNIT_INTERVAL_HALF_OPEN
-from .adapter import Kind, sheet_function
-from .args import Num
+from .declare import Kind, Num, Section, sheet_function
 
 __all__ = [
     "CW_AREAL_CAPACITY",
@@ -32,6 +31,7 @@ __all__ = [
         Num("mass_g", "mass of active material, g", NONNEGATIVE),
         Num("specific_capacity_mAh_g", "specific capacity, mAh/g", NONNEGATIVE),
     ],
+    section=Section.CAPACITY,
     returns="Ah",
     example=(100, 160),
 )
@@ -46,6 +46,7 @@ def CW_CAPACITY(mass_g: Any, specific_capacity_mAh_g: Any) -> Any:
         Num("capacity_Ah", "capacity, Ah", NONNEGATIVE),
         Num("voltage_V", "average voltage, V", NONNEGATIVE),
     ],
+    section=Section.CAPACITY,
     returns="Wh",
     example=(50, 3.2),
 )
@@ -63,6 +64,7 @@ def CW_ENERGY(capacity_Ah: Any, voltage_V: Any) -> Any:
         Num("cell_V", "nominal cell voltage, V", POSITIVE),
         Num("cell_Ah", "cell capacity, Ah", POSITIVE),
     ],
+    section=Section.CAPACITY,
     kind=Kind.RECORD,
     columns=("series", "parallel", "cells", "pack_Wh"),
     returns="count, count, count, Wh",
@@ -80,6 +82,7 @@ def CW_SERIES_PARALLEL(target_V: Any, target_Wh: Any, cell_V: Any, cell_Ah: Any)
         Num("active_fraction", "active material fraction of the coating", FRACTION_OPEN),
         Num("specific_capacity_mAh_g", "specific capacity, mAh/g", NONNEGATIVE),
     ],
+    section=Section.SIZING,
     returns="mAh/cm2",
     example=(20, 0.95, 160),
 )
@@ -97,6 +100,7 @@ def CW_AREAL_CAPACITY(
         Num("solids_density_g_cm3", "density of the coating's solids, g/cm3", POSITIVE),
         Num("porosity", "pore volume fraction", UNIT_INTERVAL_HALF_OPEN),
     ],
+    section=Section.SIZING,
     returns="um",
     example=(20, 4.0, 0.3),
 )
@@ -111,6 +115,7 @@ def CW_COATING_THICKNESS(loading_mg_cm2: Any, solids_density_g_cm3: Any, porosit
         Num("capacity_Ah", "capacity wanted, Ah", NONNEGATIVE),
         Num("areal_capacity_mAh_cm2", "areal capacity, mAh/cm2", POSITIVE),
     ],
+    section=Section.SIZING,
     returns="cm2",
     example=(5, 3.0),
 )
@@ -125,6 +130,7 @@ def CW_ELECTRODE_AREA(capacity_Ah: Any, areal_capacity_mAh_cm2: Any) -> Any:
         Num("anode_areal_capacity", "negative electrode areal capacity, e.g. mAh/cm2", NONNEGATIVE),
         Num("cathode_areal_capacity", "positive electrode areal capacity, same unit", POSITIVE),
     ],
+    section=Section.SIZING,
     returns="ratio",
     example=(3.3, 3.0),
 )

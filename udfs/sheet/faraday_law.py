@@ -11,8 +11,7 @@ from typing import Any
 
 from ..core import faraday
 from ..core.validate import ELECTRONS, FRACTION_OPEN, NONNEGATIVE, POSITIVE
-from .adapter import sheet_function
-from .args import Num, Text
+from .declare import Num, Section, Text, sheet_function
 from .formula_units import ELECTRONS_DOC, FORMULA_DOC
 from .resolve import from_unit, molar_mass_of, to_unit
 
@@ -47,6 +46,7 @@ def _electrons() -> Num:
         EFFICIENCY,
         Text("charge_unit", 'unit of charge, e.g. "mAh" or "C"', default="Ah"),
     ],
+    section=Section.FARADAY,
     returns="g",
     example=(1, "Cu", 2),
 )
@@ -69,6 +69,7 @@ def CW_CHARGE_TO_MASS(
         EFFICIENCY,
         Text("unit", 'unit wanted, e.g. "mAh" or "C"', default="Ah"),
     ],
+    section=Section.FARADAY,
     returns="Ah or unit",
     example=(1.1855, "Cu", 2),
 )
@@ -87,6 +88,7 @@ def CW_MASS_TO_CHARGE(mass_g: Any, formula: str, electrons: Any, efficiency: Any
         _electrons(),
         EFFICIENCY,
     ],
+    section=Section.FARADAY,
     returns="h",
     example=(10, 5, "Cu", 2),
 )
@@ -109,6 +111,7 @@ def CW_DEPOSITION_TIME(
         EFFICIENCY,
         Text("unit", 'unit wanted, e.g. "kWh/t" or "MJ/kg"', default="kWh/kg"),
     ],
+    section=Section.FARADAY,
     returns="kWh/kg or unit",
     example=(2.0, "Cu", 2, 0.95),
 )
@@ -131,6 +134,7 @@ def CW_ENERGY_PER_MASS(
         Num("density_g_cm3", "density of the deposit, g/cm3", POSITIVE),
         EFFICIENCY,
     ],
+    section=Section.FARADAY,
     returns="um",
     example=(2, 0.5, "Ni", 2, 8.908, 0.95),
 )

@@ -16,8 +16,7 @@ from ..core.errors import NotFoundError
 from ..core.formula import mass_fraction
 from ..core.units import dimension_of
 from ..core.validate import ELECTRONS
-from .adapter import sheet_function
-from .args import Num, Text
+from .declare import Num, Section, Text, sheet_function
 from .resolve import formula_text, molar_mass_of, to_unit, unit_factor
 
 __all__ = [
@@ -41,6 +40,7 @@ ELECTRONS_DOC = "electrons transferred, n"
         Text("from_unit", 'unit of value, e.g. "Ah"'),
         Text("to_unit", 'unit wanted, e.g. "C"'),
     ],
+    section=Section.FORMULA_UNITS,
     returns="to_unit",
     example=(1, "Ah", "C"),
 )
@@ -58,6 +58,7 @@ def CW_CONVERT(value: Any, from_unit: str, to_unit: str) -> Any:
         Text("symbol", 'name of the constant, e.g. "F"'),
         Text("unit", 'unit wanted, e.g. "C/mol" (empty: SI unit)', default=""),
     ],
+    section=Section.FORMULA_UNITS,
     returns="SI unit or unit",
     example=("F",),
 )
@@ -75,6 +76,7 @@ def CW_CONSTANT(symbol: str, unit: str) -> Any:
     "CW_MOLAR_MASS",
     "Molar mass (g/mol) of a chemical formula or catalogue material, IUPAC 2021 atomic weights.",
     [Text("formula", FORMULA_DOC)],
+    section=Section.FORMULA_UNITS,
     returns="g/mol",
     example=("LiFePO4",),
 )
@@ -86,6 +88,7 @@ def CW_MOLAR_MASS(formula: str) -> float:
     "CW_MASS_FRACTION",
     "Mass fraction (0..1) of an element in a formula or catalogue material; 0 if absent.",
     [Text("formula", FORMULA_DOC), Text("element", 'element symbol, e.g. "Ni"')],
+    section=Section.FORMULA_UNITS,
     returns="fraction",
     example=("LiNi0.8Mn0.1Co0.1O2", "Ni"),
 )
@@ -102,6 +105,7 @@ def CW_MASS_FRACTION(formula: str, element: str) -> float:
         Num("electrons", ELECTRONS_DOC, ELECTRONS),
         Text("unit", 'unit wanted, e.g. "Ah/kg"', default="mAh/g"),
     ],
+    section=Section.FORMULA_UNITS,
     returns="mAh/g or unit",
     example=("LiFePO4", 1),
 )

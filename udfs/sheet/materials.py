@@ -15,8 +15,7 @@ from ..core import catalogue
 from ..core.capacity import couple_specific_energy
 from ..core.errors import NotFoundError
 from ..core.names import closest, normalise
-from .adapter import Kind, sheet_function
-from .args import Text
+from .declare import Kind, Section, Text, sheet_function
 
 __all__ = ["CW_COUPLE_SPECIFIC_ENERGY", "CW_MATERIAL", "CW_MATERIALS", "CW_SOURCE"]
 
@@ -60,6 +59,7 @@ def material_property(name: str, prop: str) -> str | float:
         Text("material", MATERIAL_DOC),
         Text("property_name", 'property, e.g. "theoretical_capacity", "density", "formula"'),
     ],
+    section=Section.CAPACITY,
     kind=Kind.VALUE,
     returns="number or text",
     example=("LFP", "theoretical_capacity"),
@@ -79,6 +79,7 @@ def CW_MATERIAL(material: str, property_name: str) -> str | float:
             default="",
         )
     ],
+    section=Section.CAPACITY,
     kind=Kind.COLUMN,
     returns="list of text",
     example=("anode",),
@@ -99,6 +100,7 @@ def CW_MATERIALS(role: str) -> list[str]:
             default="",
         ),
     ],
+    section=Section.CAPACITY,
     kind=Kind.VALUE,
     returns="text",
     example=("Cu2+/Cu",),
@@ -125,6 +127,7 @@ def CW_SOURCE(id: str, property_name: str) -> str:
             default="theoretical",
         ),
     ],
+    section=Section.CAPACITY,
     returns="Wh/kg",
     example=("LFP", "graphite"),
 )

@@ -15,8 +15,7 @@ from ..core import nernst
 from ..core.catalogue import couple, couple_ids
 from ..core.errors import CellwrightError
 from ..core.validate import ANY, CELSIUS, ELECTRONS, NONZERO_INTEGER, POSITIVE
-from .adapter import Kind, sheet_function
-from .args import Activities, Num, Text
+from .declare import Activities, Kind, Num, Section, Text, sheet_function
 from .resolve import activities, relabel
 
 __all__ = [
@@ -31,7 +30,8 @@ __all__ = [
 
 COUPLE_DOC = 'catalogue couple id, e.g. "Cu2+/Cu" (see CW_COUPLES)'
 ACTIVITY_FORMS = (
-    'text "Cu2+=0.1; pH=3" (mol/L, bar) or a 2-column range species/value; others at standard state'
+    'text "Cu2+=0.1; pH=3" (mol/L, bar) or a 2-column range species/value; others at standard'
+    " state; a pH sets OH- as 10^(pH - pKw) with pKw at temp_C"
 )
 ACTIVITIES_DOC = "activities as " + ACTIVITY_FORMS
 
@@ -55,6 +55,7 @@ def _potential(couple_id: str, acts: str, temp_C: Any, couple_arg: str, acts_arg
     "Standard potential (V vs SHE) of a catalogue couple at temp_C (dE0/dT applied where "
     "tabulated).",
     [Text("couple", COUPLE_DOC), _temp()],
+    section=Section.POTENTIALS,
     returns="V vs SHE",
     example=("Cu2+/Cu",),
 )
@@ -73,6 +74,7 @@ def CW_E0(couple_id: str, temp_C: Any) -> Any:
         Num("red_activity", "activity of the reduced form (mol/L, bar; 1 for a solid)", POSITIVE),
         _temp(),
     ],
+    section=Section.POTENTIALS,
     returns="V",
     example=(0.34, 2, 0.1, 1),
 )
@@ -85,6 +87,7 @@ def CW_NERNST(e0: Any, electrons: Any, ox_activity: Any, red_activity: Any, temp
     "Electrode potential (V vs SHE) of a catalogue couple at the given activities and "
     "temperature (Nernst).",
     [Text("couple", COUPLE_DOC), Activities("activities", ACTIVITIES_DOC, default=""), _temp()],
+    section=Section.POTENTIALS,
     returns="V vs SHE",
     example=("O2/H2O", "pH=7; O2=0.21"),
 )
@@ -96,6 +99,7 @@ def CW_POTENTIAL(couple_id: str, acts: str, temp_C: Any) -> Any:
     "CW_HALF_REACTION",
     "The balanced half-reaction of a catalogue couple, as text.",
     [Text("couple", COUPLE_DOC)],
+    section=Section.POTENTIALS,
     kind=Kind.VALUE,
     returns="text",
     example=("Cu2+/Cu",),
@@ -108,6 +112,7 @@ def CW_HALF_REACTION(couple_id: str) -> str:
     "CW_COUPLES",
     "The ids of the catalogue's couples, spilled down a column.",
     [],
+    section=Section.POTENTIALS,
     kind=Kind.COLUMN,
     returns="list of text",
     example=(),
@@ -119,7 +124,8 @@ def CW_COUPLES() -> list[str]:
 @sheet_function(
     "CW_OCV",
     "Open-circuit voltage (V) of two catalogue couples: E(cathode) - E(anode) at the given "
-    "activities and temperature.",
+    "activities and temperature, from tabulated E0. CW_REACTION_THERMO's emf uses formation data; "
+    "the two differ by up to 38 mV (docs/sources.md).",
     [
         Text("cathode_couple", 'couple id of the positive electrode, e.g. "Cu2+/Cu"'),
         Text("anode_couple", 'couple id of the negative electrode, e.g. "Zn2+/Zn"'),
@@ -129,6 +135,7 @@ def CW_COUPLES() -> list[str]:
         Activities("anode_activities", "activities at the anode as " + ACTIVITY_FORMS, default=""),
         _temp(),
     ],
+    section=Section.POTENTIALS,
     returns="V",
     example=("Cu2+/Cu", "Zn2+/Zn"),
 )
@@ -156,6 +163,7 @@ def CW_OCV(
         Num("charge", "charge number z of the ion, e.g. 1 for K+", NONZERO_INTEGER),
         _temp(),
     ],
+    section=Section.POTENTIALS,
     returns="V",
     example=(0.140, 0.005, 1, 37),
 )

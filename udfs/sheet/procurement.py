@@ -11,8 +11,7 @@ from typing import Any
 
 from ..core import procurement
 from ..core.validate import FRACTION_OPEN, NONNEGATIVE
-from .adapter import sheet_function
-from .args import Num, Text
+from .declare import Num, Section, Text, sheet_function
 from .formula_units import FORMULA_DOC
 from .resolve import formula_text
 
@@ -24,6 +23,7 @@ __all__ = ["CW_LCE", "CW_METAL_CONTENT"]
     "Lithium carbonate equivalent of a lithium mass: M(Li2CO3) / (2 M(Li)) = 5.323 times it, "
     "same mass unit out as in.",
     [Num("lithium_mass", "mass of lithium, any mass unit", NONNEGATIVE)],
+    section=Section.PROCUREMENT,
     returns="same mass unit",
     example=(1,),
 )
@@ -41,6 +41,7 @@ def CW_LCE(lithium_mass: Any) -> Any:
         Num("material_mass", "mass of good material needed, any mass unit", NONNEGATIVE),
         Num("yield_fraction", "process yield, fraction", FRACTION_OPEN, default=1.0),
     ],
+    section=Section.PROCUREMENT,
     returns="same mass unit",
     example=("LiCoO2", "Co", 1000),
 )

@@ -19,33 +19,22 @@ from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
-from .adapter import Kind, Plan
+from .declare import Kind, Plan, Section
 from .error_values import SheetError
 from .registry import CATALOGUE_ORDER, PLANS
 
 __all__ = [
     "END",
-    "SECTIONS",
     "START",
     "render_markdown",
     "render_text",
     "replace_block",
+    "sections",
     "write_readme",
 ]
 
 START = "<!-- functions:start -->"
 END = "<!-- functions:end -->"
-
-#: Section title -> the functions in it, in the design's catalogue order.
-SECTIONS: tuple[tuple[str, tuple[str, ...]], ...] = (
-    ("Formula and units", CATALOGUE_ORDER[0:5]),
-    ("Faraday's law", CATALOGUE_ORDER[5:10]),
-    ("Potentials", CATALOGUE_ORDER[10:17]),
-    ("Cell thermodynamics", CATALOGUE_ORDER[17:20]),
-    ("Materials and capacity", CATALOGUE_ORDER[20:27]),
-    ("Electrode and cell sizing", CATALOGUE_ORDER[27:31]),
-    ("Procurement", CATALOGUE_ORDER[31:33]),
-)
 
 CAUTION = (
     "Results are estimates for design and costing studies; follow the applicable standards, "
@@ -53,13 +42,16 @@ CAUTION = (
 )
 
 
-def _sections() -> Iterator[tuple[str, list[Plan]]]:
-    listed = {n for _, names in SECTIONS for n in names}
-    for title, names in SECTIONS:
-        yield title, [PLANS[n] for n in names if n in PLANS]
-    extra = [PLANS[n] for n in sorted(PLANS) if n not in listed]
-    if extra:
-        yield "More functions", extra
+def sections() -> Iterator[tuple[str, list[Plan]]]:
+    """``(title, declarations)`` per section, each function in the section its
+    own declaration names; sections in :class:`Section` order, functions in the
+    design's catalogue order (then any others by name)."""
+    rank = {name: k for k, name in enumerate(CATALOGUE_ORDER)}
+    for section in Section:
+        plans = [p for p in PLANS.values() if p.section is section]
+        if plans:
+            plans.sort(key=lambda p: (rank.get(p.name, len(rank)), p.name))
+            yield section.title, plans
 
 
 def _cell(value: Any) -> str:
@@ -105,7 +97,7 @@ def _returns(plan: Plan) -> str:
 def render_text() -> str:
     """Plain-text reference for the terminal (``cellwright functions``)."""
     lines = ["cellwright spreadsheet functions", ""]
-    for title, plans in _sections():
+    for title, plans in sections():
         lines += [title, "-" * len(title), ""]
         for plan in plans:
             lines.append(f"{plan.signature_text}  ->  {_returns(plan)}")
@@ -126,7 +118,8 @@ Conventions: arguments are positional; [optional] ones may be omitted or left em
 Numeric arguments take a cell or a range; ranges broadcast like numpy (a row against a
 column fills a grid). Numeric text counts as its number; TRUE/FALSE are refused. Text
 arguments may be ranges too (element by element). Errors name the argument and what
-is allowed; in a range result only the bad elements are errors."""
+is allowed; in a range result only the bad elements are errors. An error value from
+another cell is passed on as that error (#SPILL! and the other newer ones included)."""
 
 
 _MD_INTRO = """\
@@ -156,7 +149,9 @@ is not tested on either of those.
 - **Arguments** are positional; `[optional]` ones may be omitted or left empty and take the
   default shown. Units are in the argument names or help (temperatures in degC, charge in Ah,
   energy in Wh, mass in g unless a unit argument says otherwise; units in pint syntax such as
-  `"mAh/g"`, `"kWh"`, `"mg/cm^2"`).
+  `"mAh/g"`, `"kWh"`, `"mg/cm^2"`). Unit text is at most 100 characters of unit names, `*`,
+  `/`, `^` or `**` with an exponent up to 12 (or a fraction such as `^(1/2)`), parentheses and
+  plain numbers as factors (`"1/h"`); anything else is `#VALUE!` with the reason.
 - **Ranges broadcast** like numpy arrays: a 1x3 row against a 4x1 column fills a 4x3 grid from
   one formula. Text arguments (formulas, names, units) may be ranges too and broadcast element
   by element. Ranges that cannot be combined give one `#VALUE!` naming both shapes. A result of
@@ -169,11 +164,13 @@ is not tested on either of those.
 - **Errors** say which argument is wrong and what is allowed, e.g.
   `#NUM! ox_activity must be > 0 (got -0.1)`. In a range result only the bad elements are errors.
   An error value arriving from another cell is passed on; when several arguments are bad, the
-  leftmost one decides, in Excel and in the headless engine alike. The classic Windows add-in cannot
-  return real error values, so there the cell shows this text (test it with
-  `=LEFT(A1,1)="#"`; IFERROR does not see it); the headless engine returns real error values
-  (`#NUM!`, `#VALUE!`, `#N/A`) that IFERROR and propagation understand. A Python traceback
-  never reaches a cell.
+  leftmost one decides, in Excel and in the headless engine alike. A newer error value
+  (`#SPILL!`, `#CALC!`, `#GETTING_DATA`, ...) is passed on showing its own code; where only the
+  classic seven exist (the headless engine's real error values) it counts as `#N/A`. The
+  classic Windows add-in cannot return real error values, so there the cell shows this text
+  (test it with `=LEFT(A1,1)="#"`; IFERROR does not see it); the headless engine returns real
+  error values (`#NUM!`, `#VALUE!`, `#N/A`) that IFERROR and propagation understand. A Python
+  traceback never reaches a cell.
 """
 
 
@@ -184,7 +181,7 @@ def _md_escape(text: str) -> str:
 def render_markdown() -> str:
     """The README's function reference (the text between the markers)."""
     out = [_MD_INTRO]
-    for title, plans in _sections():
+    for title, plans in sections():
         out.append(f"### {title}\n")
         for plan in plans:
             out.append(f"#### `{plan.signature_text}`\n")

@@ -6,6 +6,8 @@ through xlwings). ``PLANS`` holds their declarations for the reference.
 
 >>> "CW_NERNST" in FUNCTIONS and FUNCTIONS["CW_NERNST"](0.34, 2, 0.1, 1) > 0.3
 True
+>>> elementwise("CW_NERNST"), elementwise("CW_POTENTIAL"), elementwise("CW_SERIES_PARALLEL")
+(True, False, False)
 """
 
 from __future__ import annotations
@@ -17,11 +19,21 @@ from . import (  # noqa: F401 - imported for their declarations
     materials,
     potentials,
     procurement,
+    sizing,
     thermodynamics,
 )
-from .adapter import FUNCTIONS, PLANS
+from .declare import FUNCTIONS, PLANS
 
-__all__ = ["CATALOGUE_ORDER", "FUNCTIONS", "PLANS"]
+__all__ = ["CATALOGUE_ORDER", "FUNCTIONS", "PLANS", "elementwise"]
+
+
+def elementwise(name: str) -> bool:
+    """Whether the function ``name`` is element-wise over single cells: every
+    argument one scalar per element and exactly one value per element out, so
+    that one call on stacked columns equals the calls cell by cell (see
+    :attr:`udfs.sheet.declare.Plan.elementwise`). Unknown names raise KeyError."""
+    return PLANS[name].elementwise
+
 
 #: The design's catalogue order (the reference lists the functions in it).
 CATALOGUE_ORDER: tuple[str, ...] = (
@@ -48,6 +60,7 @@ CATALOGUE_ORDER: tuple[str, ...] = (
     "CW_MATERIAL",
     "CW_MATERIALS",
     "CW_SOURCE",
+    "CW_MATERIAL_NAME",
     "CW_CAPACITY",
     "CW_ENERGY",
     "CW_COUPLE_SPECIFIC_ENERGY",
@@ -56,6 +69,7 @@ CATALOGUE_ORDER: tuple[str, ...] = (
     "CW_COATING_THICKNESS",
     "CW_ELECTRODE_AREA",
     "CW_NP_RATIO",
+    "CW_CELL_DESIGN",
     "CW_LCE",
     "CW_METAL_CONTENT",
 )

@@ -14,8 +14,7 @@ from typing import Any
 from ..core import thermo
 from ..core.catalogue import couple
 from ..core.validate import ANY, CELSIUS, ELECTRONS, NONNEGATIVE
-from .adapter import Kind, sheet_function
-from .args import Num, Text
+from .declare import Kind, Num, Section, Text, sheet_function
 from .resolve import choose
 
 __all__ = ["CW_GIBBS", "CW_HEAT_RATE", "CW_REACTION_THERMO", "QUANTITIES"]
@@ -38,6 +37,7 @@ QUANTITIES: dict[str, tuple[str, str]] = {
     "CW_GIBBS",
     "Reaction Gibbs energy (kJ/mol) of a cell reaction from its emf: -n F E.",
     [Num("emf_V", "cell emf, V", ANY), Num("electrons", "electrons transferred, n", ELECTRONS)],
+    section=Section.THERMODYNAMICS,
     returns="kJ/mol",
     example=(1.10, 2),
 )
@@ -49,12 +49,13 @@ def CW_GIBBS(emf_V: Any, electrons: Any) -> Any:
     "CW_REACTION_THERMO",
     "Standard quantity of the cell reaction of two catalogue couples from tabulated formation "
     "data (25 degC): dG, dH, TdS (kJ/mol), dS, efficiency, dEdT (mV/K), emf, electrons or "
-    "equation.",
+    "equation. This emf differs from CW_OCV's (tabulated E0) by up to 38 mV.",
     [
         Text("cathode_couple", 'couple id of the positive electrode, e.g. "Cu2+/Cu"'),
         Text("anode_couple", 'couple id of the negative electrode, e.g. "Zn2+/Zn"'),
         Text("quantity", "one of dG, dH, TdS, dS, efficiency, dEdT, emf, electrons, equation"),
     ],
+    section=Section.THERMODYNAMICS,
     kind=Kind.VALUE,
     returns="see quantity",
     example=("Cu2+/Cu", "Zn2+/Zn", "dG"),
@@ -78,6 +79,7 @@ def CW_REACTION_THERMO(cathode_couple: str, anode_couple: str, quantity: str) ->
         Num("docv_dT_mV_K", "entropic coefficient dU/dT, mV/K", ANY),
         Num("temp_C", "cell temperature, degC", CELSIUS, default=25.0),
     ],
+    section=Section.THERMODYNAMICS,
     returns="W",
     example=(10, 3.7, 3.6, -0.1),
 )

@@ -1,6 +1,6 @@
 """``python -m udfs.templates --write`` regenerates ``workbook_templates/``;
-``--check`` reports (exit 1) any committed template that differs from its builder;
-``--render-bom PNG`` draws the demo's bill of materials (LibreOffice, pdftoppm).
+``--check`` reports (exit 1) any committed template that differs from its builder.
+(Drawing a computed sheet needs the engine: that is :mod:`udfs.app.render`.)
 
 Files are written atomically and only when their bytes change (the builder's
 output is reproducible), so an unchanged template leaves git clean.
@@ -32,8 +32,6 @@ def _parser() -> argparse.ArgumentParser:
     mode = p.add_mutually_exclusive_group(required=True)
     mode.add_argument("--write", action="store_true", help="write the templates into DIR")
     mode.add_argument("--check", action="store_true", help="compare DIR with the builders")
-    mode.add_argument("--render-bom", metavar="PNG", type=Path,
-                      help="picture of the demo's Bill of materials sheet (needs LibreOffice)")
     p.add_argument("--dir", type=Path, default=DEFAULT_DIR,
                    help=f"folder of the .xlsx files (default: {DEFAULT_DIR or 'none'})")
     return p
@@ -41,17 +39,6 @@ def _parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     args = _parser().parse_args(argv)
-    if args.render_bom is not None:
-        from ..core.errors import CellwrightError
-        from .cell_sizing import build_demo
-        from .render import render_sheet_png
-
-        try:
-            print(render_sheet_png(build_demo(), "Bill of materials", args.render_bom))
-        except CellwrightError as exc:
-            print(f"python -m udfs.templates: {exc}", file=sys.stderr)
-            return 2
-        return 0
     if args.dir is None:
         print("python -m udfs.templates: give --dir (no source checkout here)", file=sys.stderr)
         return 2

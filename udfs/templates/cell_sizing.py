@@ -3,7 +3,13 @@ Procurement, What-if and Notes (plus a hidden Lists sheet).
 
 It is the spreadsheet route to the numbers of :mod:`udfs.core.sizing` and
 :mod:`udfs.core.procurement`: the same equations (``docs/sizing-model.md``) in
-native formulas, with catalogue values read through ``CW_`` functions.
+native formulas, with catalogue values read through ``CW_`` functions. The
+Inputs sheet is written from the input table
+(:data:`udfs.core.sizing_table.CELL_SIZING`): every input's cell, defined name,
+unit, hint, data validation and check cell come from its one declaration.
+Each material input has a cell beside it with the catalogue's own name
+(``CW_MATERIAL_NAME``, defined name ``mat_...``); every look-up reads that cell,
+so an alias such as LFP works everywhere.
 
 >>> wb = build_cell_sizing()
 >>> wb.sheetnames
@@ -18,135 +24,154 @@ from openpyxl import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
 from ..core.errors import InputError
+from ..core.inputs import Input
 from ..core.sizing import CellSpec
-from .layout import (
-    Choice,
-    Columns,
-    Field,
-    Number,
-    SheetWriter,
-    add_name,
-    finish_sheet,
-    style,
-    validation,
-)
+from ..core.sizing_table import CELL_SIZING, COMPONENTS
+from ..core.sizing_values import spec_values
+from ..core.validate import Names
+from .input_rules import check_formula, excel_test, must
+from .layout import Columns, Ref, SheetWriter, add_name, finish_sheet, style, validate
 from .notes import CAUTION, legend, write_notes
-from .sizing_inputs import (
-    COMPONENTS,
-    ORDER_FIELDS,
-    PRICE_UNITS,
-    chemistry_fields,
-    design_fields,
-    footprint_fields,
-    inactive_fields,
-    set_inputs,
-    spec_inputs,
-    yield_fields,
-)
 from .sizing_lists import write_lists
 from .sizing_order import build_procurement, build_whatif
-from .sizing_sheets import build_bom, build_electrodes
+from .sizing_sheets import build_bom, build_electrodes, resolved_name
+from .workbook_inputs import set_inputs
 
 __all__ = ["build_cell_sizing", "build_demo", "fill_demo", "fill_spec"]
 
-_CHECKS = (
-    ("Cathode coating fractions",
-     '=IF(in_cathode_active+in_cathode_binder_fraction<=1+1E-12,"ok",'
-     '"active + binder fractions exceed 100 %")'),
-    ("Anode coating fractions",
-     '=IF(in_anode_active+in_anode_binder_fraction<=1+1E-12,"ok",'
-     '"active + binder fractions exceed 100 %")'),
-    ("Cathode binders",
-     '=IF(in_cathode_binder2_share=0,"ok",IF(ISBLANK(in_cathode_binder2),'
-     '"name the second binder or set its share to 0",IF(in_cathode_binder2=in_cathode_binder,'
-     '"the second binder repeats the first","ok")))'),
-    ("Anode binders",
-     '=IF(in_anode_binder2_share=0,"ok",IF(ISBLANK(in_anode_binder2),'
-     '"name the second binder or set its share to 0",IF(in_anode_binder2=in_anode_binder,'
-     '"the second binder repeats the first","ok")))'),
-    ("Nominal voltage",
-     '=IF(ISNUMBER(out_voltage_V),"ok","cannot be found: the materials use different voltage '
-     'references or give no positive difference; type a nominal voltage")'),
-    ("Prices",
-     '=IF(ISNUMBER(out_cost_per_cell_USD),"ok","a price is missing: a price typed without its '
-     'unit, or a material without a demo price")'),
-    ("Results",
-     '=IF(AND(ISNUMBER(out_cost_per_kWh_USD),ISNUMBER(out_Wh_kg),ISNUMBER(out_order_cells)),'
-     '"ok","a result is an error value: check the inputs above")'),
-)
+CHECK = "F"  # the column of the check cells on the Inputs sheet
+_SCENARIO = "Scenario"
+_PRICES = CELL_SIZING.get(COMPONENTS[0].price).section
 
 
-def _price_rows(w: SheetWriter) -> None:
-    """Price override and unit per component; the hint shows the demo price."""
+def _resolve_formula(inp: Input) -> str:
+    assert isinstance(inp.domain, Names)
+    call = f'CW_MATERIAL_NAME({inp.name},"{inp.domain.roles[0]}")'
+    return f'=IF(ISBLANK({inp.name}),"",{call})' if inp.optional else f"={call}"
+
+
+def _input_row(w: SheetWriter, inp: Input, checks: list[Ref]) -> None:
+    """One input, the catalogue name it resolves to (material inputs) and its check."""
+    ref = w.input(inp)
+    resolved = None
+    if isinstance(inp.domain, Names):
+        cell = w.ws[ref.at("D").plain]
+        style(cell, "lookup").value = _resolve_formula(inp)
+        resolved = resolved_name(inp.name)
+        add_name(w.wb, resolved.name, w.ws, ref.at("D").local)
+    check = ref.at(CHECK)
+    style(w.ws[check.plain], "calc").value = check_formula(
+        inp, inp.name, None if resolved is None else str(resolved)
+    )
+    checks.append(check)
+
+
+def _price_rows(w: SheetWriter, checks: list[Ref]) -> None:
+    """Price and unit per component (two inputs of the table on one row); the
+    label and the hint show the component's material and its demo price."""
     ws = w.ws
-    w.band(["Component and material", "Your price", "Unit", "Blank price: demo price list"])
+    w.band(["Component and material", "Your price", "Unit", "Blank price: demo price list",
+            "Check"])
     for comp in COMPONENTS:
         row = w.row
-        material = comp.material
-        label = f'="{comp.label}: "&IF(ISBLANK({material}),"(none)",{material})'
-        style(ws[f"B{row}"], "text").value = label
-        price_cell = ws[f"C{row}"]
-        style(price_cell, "input", "#,##0.00")
-        units = PRICE_UNITS if comp.sheet else PRICE_UNITS[:1]
-        unit_cell = ws[f"D{row}"]
-        style(unit_cell, "input")
-        validation(ws, f"C{row}", Number(lo=0, blank_ok=True), f"Price: {comp.label.lower()}",
-                   "Blank: the demo price list (invented). Give the unit beside it.")
-        validation(ws, f"D{row}", Choice(units, blank_ok=True), "Price unit",
-                   "USD/kg" + (", or USD/m^2 for the sheet area." if comp.sheet else "."))
-        add_name(w.wb, f"in_price_{comp.key}", ws, f"$C${row}")
-        add_name(w.wb, f"in_price_unit_{comp.key}", ws, f"$D${row}")
+        material = resolved_name(comp.material)
+        style(ws[f"B{row}"], "text").value = (
+            f'="{comp.label}: "&IF({material}="","(none)",{material})'
+        )
+        price, unit = CELL_SIZING.get(comp.price), CELL_SIZING.get(comp.price_unit)
+        for inp, col in ((price, "C"), (unit, "D")):
+            style(ws[f"{col}{row}"], "input", inp.fmt)
+            validate(ws, inp, f"{col}{row}")
+            add_name(w.wb, inp.name, ws, f"${col}${row}")
         demo = f"MATCH({material},list_material,0)"
         style(ws[f"E{row}"], "hint").value = (
-            f'=IF(ISBLANK({material}),"",IFERROR("demo "&TEXT(INDEX(list_demo_price,{demo}),'
+            f'=IF({material}="","",IFERROR("demo "&TEXT(INDEX(list_demo_price,{demo}),'
             f'"0.00")&" "&INDEX(list_demo_unit,{demo})&" (invented)","no demo price: give one"))'
         )
+        style(ws[f"{CHECK}{row}"], "calc").value = (
+            f'=IF(NOT({excel_test(price, price.name)}),"price {must(price)}",'
+            f'IF(NOT({excel_test(unit, unit.name)}),"unit {must(unit)}","ok"))'
+        )
+        checks.append(Ref(ws.title, CHECK, row))
         w.row += 1
+
+
+def _binder_check(side: str) -> str:
+    share, second = f"in_{side}_binder2_share", f"in_{side}_binder2"
+    first2, second2 = resolved_name(f"in_{side}_binder"), resolved_name(second)
+    return (
+        f'=IF({share}=0,"ok",IF(ISBLANK({second}),"name the second binder or set its share '
+        f'to 0",IF({second2}={first2},"the second binder repeats the first","ok")))'
+    )
+
+
+def _checks(w: SheetWriter, input_checks: list[Ref]) -> list[Ref]:
+    """The Checks block: every input in its range, then the rules that join inputs."""
+    in_range = ",".join(f'{c.local}="ok"' for c in input_checks)
+    rows = (
+        ("Inputs within their allowed ranges",
+         f'=IF(IFERROR(AND({in_range}),FALSE),"ok",'
+         '"an input is out of range: see the Check column")'),
+        ("Cathode coating fractions",
+         '=IF(in_cathode_active+in_cathode_binder_fraction<=1+1E-12,"ok",'
+         '"active + binder fractions exceed 100 %")'),
+        ("Anode coating fractions",
+         '=IF(in_anode_active+in_anode_binder_fraction<=1+1E-12,"ok",'
+         '"active + binder fractions exceed 100 %")'),
+        ("Cathode binders", _binder_check("cathode")),
+        ("Anode binders", _binder_check("anode")),
+        ("Order",
+         '=IF(in_order_basis="cells",IF(in_order_size=ROUND(in_order_size,0),"ok",'
+         '"give a whole number of cells"),"ok")'),
+        ("Nominal voltage",
+         '=IF(ISNUMBER(out_voltage_V),"ok","cannot be found: the materials use different '
+         'voltage references or give no positive difference; type a nominal voltage")'),
+        ("Prices",
+         '=IF(ISNUMBER(out_cost_per_cell_USD),"ok","a price is missing: a price typed without '
+         'its unit, or a material without a demo price")'),
+        ("Results",
+         '=IF(AND(ISNUMBER(out_cost_per_kWh_USD),ISNUMBER(out_Wh_kg),ISNUMBER(out_order_cells)),'
+         '"ok","a result is an error value: check the inputs above")'),
+    )
+    return [w.value(label, formula, "", "") for label, formula in rows]
 
 
 def _build_inputs(wb: Workbook) -> Worksheet:
     ws = wb.active
     ws.title = "Inputs"
     w = SheetWriter(wb, ws, Columns(label="B", value="C", unit="D", note="E"),
-                    {"A": 2.5, "B": 44.0, "C": 22.0, "D": 16.0, "E": 66.0})
+                    {"A": 2.5, "B": 44.0, "C": 22.0, "D": 20.0, "E": 62.0, CHECK: 30.0})
     w.title(
         "Cell sizing: inputs",
         "A stacked-electrode cell from its materials and design numbers. Work down this sheet, "
         "then read Electrodes, Bill of materials, Procurement and What-if.",
     )
-    w.caution(CAUTION, height=32.0)
+    w.caution(CAUTION, span=5, height=32.0)
     legend(w)
     w.skip()
-    w.input(Field("in_scenario", "Scenario (printed on the Bill of materials)",
-                  "Untitled scenario", "", "", None))
+    w.input(CELL_SIZING.get("in_scenario"))
     ws.merge_cells(f"C{w.row - 1}:E{w.row - 1}")
     summary_row = w.row
     w.row += 1
-    sections: list[tuple[str, list[Field]]] = [
-        ("Chemistry and target", chemistry_fields()),
-        ("Electrode design", design_fields()),
-        ("Inactive components", inactive_fields()),
-        ("Footprint and housing volume", footprint_fields()),
-        ("Electrode scrap and cell yield", yield_fields()),
-    ]
-    for title, fields in sections:
-        w.section(title)
-        for f in fields:
-            w.input(f)
-    w.section("Prices (USD; blank uses the demo price list, invented demo data)")
-    _price_rows(w)
-    w.section("Order (for the Procurement sheet)")
-    for f in ORDER_FIELDS:
-        w.input(f)
+    input_checks: list[Ref] = []
+    for section, inputs in CELL_SIZING.sections():
+        if section == _SCENARIO:
+            continue
+        w.section(section)
+        style(ws[f"{CHECK}{w.row - 1}"], "unit").value = "Check"
+        if section == _PRICES:
+            _price_rows(w, input_checks)
+            continue
+        for inp in inputs:
+            _input_row(w, inp, input_checks)
     w.section("Checks")
-    checks = []
-    for label, formula in _CHECKS:
-        checks.append(w.value(label, formula, "", ""))
-    all_ok = ",".join(f'{c}="ok"' for c in checks)
+    checks = _checks(w, input_checks)
+    all_ok = ",".join(f'{c.local}="ok"' for c in checks)
     ws[f"B{summary_row}"] = "Input checks"
     style(ws[f"B{summary_row}"], "text")
     style(ws[f"C{summary_row}"], "result").value = (
-        f'=IF(AND({all_ok}),"all checks pass","a check fails: see Checks at the bottom")'
+        f'=IF(IFERROR(AND({all_ok}),FALSE),"all checks pass",'
+        '"a check fails: see Checks at the bottom")'
     )
     add_name(wb, "out_checks", ws, f"$C${summary_row}")
     finish_sheet(ws, first_cell="C6", freeze="A6")
@@ -169,22 +194,24 @@ def _notes(wb: Workbook) -> None:
         "Costs per good cell: electrode materials (coatings and foils) / (1 - scrap), all / "
         "yield. Procurement: kg to buy = cells x g per cell / 1000 with the same factors; "
         "metals = kg x element mass fraction; lithium also as LCE.",
+        "Names: each material input accepts the catalogue's names and aliases (LFP, NCM811); "
+        "the cell beside it shows the catalogue's own name (CW_MATERIAL_NAME), and every "
+        "look-up reads that cell.",
         "The same equations run in Python (udfs.core.sizing and udfs.core.procurement, see "
         "docs/sizing-model.md); a test proves the two routes agree to 1 part in 1e9.",
-        "What-if: each grid is one array formula. The model's arithmetic is linear in the "
-        "loading and N/P once the sheet count is known, so the grid combines a few "
-        "coefficients (listed below the grids, each a native formula) with the helper rows of "
-        "sheet counts and energies.",
+        "What-if: each grid is one array formula of CW_CELL_DESIGN, which runs the Python "
+        "sizing model on the inputs listed below the grids with the loading and the N/P "
+        "varied; a check row compares it with the Bill of materials at the current inputs.",
     ]
     live = [
-        ("Cathode practical capacity", '=CW_SOURCE(in_cathode,"practical_capacity")'),
-        ("Cathode average voltage", '=CW_SOURCE(in_cathode,"average_voltage")'),
-        ("Cathode density", '=CW_SOURCE(in_cathode,"density")'),
-        ("Anode practical capacity", '=CW_SOURCE(in_anode,"practical_capacity")'),
-        ("Anode density", '=CW_SOURCE(in_anode,"density")'),
-        ("Separator thickness", '=CW_SOURCE(in_separator,"thickness")'),
-        ("Electrolyte density", '=CW_SOURCE(in_electrolyte,"density")'),
-        ("Cathode foil density", '=CW_SOURCE(in_cathode_foil,"density")'),
+        ("Cathode practical capacity", '=CW_SOURCE(mat_cathode,"practical_capacity")'),
+        ("Cathode average voltage", '=CW_SOURCE(mat_cathode,"average_voltage")'),
+        ("Cathode density", '=CW_SOURCE(mat_cathode,"density")'),
+        ("Anode practical capacity", '=CW_SOURCE(mat_anode,"practical_capacity")'),
+        ("Anode density", '=CW_SOURCE(mat_anode,"density")'),
+        ("Separator thickness", '=CW_SOURCE(mat_separator,"thickness")'),
+        ("Electrolyte density", '=CW_SOURCE(mat_electrolyte,"density")'),
+        ("Cathode foil density", '=CW_SOURCE(mat_cathode_foil,"density")'),
     ]
     cautions = [
         "Catalogue capacities are typical practical values at an unstated rate and "
@@ -200,12 +227,11 @@ def _notes(wb: Workbook) -> None:
 def build_cell_sizing() -> Workbook:
     """The cell-sizing template as a new openpyxl workbook."""
     wb = Workbook()
-    refs: dict[str, str] = {}
     _build_inputs(wb)
-    build_electrodes(wb, refs)
-    build_bom(wb, refs)
-    build_procurement(wb, refs)
-    build_whatif(wb, refs)
+    cells = build_electrodes(wb)
+    bom = build_bom(wb, cells)
+    build_procurement(wb, bom)
+    build_whatif(wb)
     _notes(wb)
     write_lists(wb)
     wb.active = 0
@@ -227,13 +253,13 @@ def fill_spec(
     >>> from udfs.core.sizing import CellSpec
     >>> wb = fill_spec(build_cell_sizing(), CellSpec("LFP", "graphite",
     ...                target_capacity_Ah=20.0, cathode_loading_mg_cm2=25.0))
-    >>> from udfs.templates.sizing_inputs import input_values
+    >>> from udfs.templates.workbook_inputs import input_values
     >>> input_values(wb)["in_cathode"], input_values(wb)["in_loading_basis"]
     ('LiFePO4', 'loading')
     """
     if not isinstance(wb, Workbook) or "in_cathode" not in wb.defined_names:
         raise InputError("workbook", None, detail="not a cell-sizing workbook (no in_cathode)")
-    values = spec_inputs(spec, order_cells=order_cells, order_MWh=order_MWh)
+    values = spec_values(spec, order_cells=order_cells, order_MWh=order_MWh)
     if scenario is not None:
         values["in_scenario"] = scenario
     set_inputs(wb, values)

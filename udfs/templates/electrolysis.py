@@ -10,32 +10,30 @@ native formulas. Electricity prices are invented demo data.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Callable
 
 from openpyxl import Workbook
 from openpyxl.cell.cell import Cell
 from openpyxl.styles import Alignment
 
+from ..core.input_tables import ELECTROLYSIS, ELECTROLYSIS_PLANTS
+from ..core.inputs import Input
 from .layout import (
     Columns,
     Kind,
-    Number,
+    Ref,
     SheetWriter,
     add_name,
     finish_sheet,
     style,
-    validation,
+    validate,
 )
 from .notes import CAUTION, legend, write_notes
 
 __all__ = ["PROCESSES", "build_electrolysis"]
 
-#: The three columns: key, title.
-PROCESSES: tuple[tuple[str, str], ...] = (
-    ("plating", "Plating line"),
-    ("winning", "Electrowinning tank house"),
-    ("water", "Water electrolyser"),
-)
+#: The three columns: key, title (declared with the inputs, udfs.core.input_tables).
+PROCESSES = ELECTROLYSIS_PLANTS
 _COLS = ("C", "D", "E")
 NA = "-"  # shown where a row does not apply
 
@@ -54,50 +52,45 @@ HAZARDS = [
 ]
 
 
-@dataclass(frozen=True)
-class _Row:
-    key: str
-    label: str
-    unit: str
-    hint: str
-    values: tuple[float | str | None, float | str | None, float | str | None]
-    check: Number | None = None
-    fmt: str | None = None
+def _rows() -> list[tuple[str, list[Input | None]]]:
+    """The input rows: (row key, the input of each plant or None), in table order."""
+    rows: dict[str, list[Input | None]] = {}
+    for inp in ELECTROLYSIS:
+        plant, key = inp.name.removeprefix("in_").split("_", 1)
+        column = [p for p, _ in PROCESSES].index(plant)
+        rows.setdefault(key, [None] * len(PROCESSES))[column] = inp
+    return list(rows.items())
 
 
-_INPUTS: tuple[_Row, ...] = (
-    _Row("product", "Product (formula)", "formula",
-         "What is deposited or produced: a formula such as Ni, Cu, Zn or H2.",
-         ("Ni", "Cu", "H2")),
-    _Row("electrons", "Electrons per formula unit", "",
-         "n of the electrode reaction: 2 for Ni2+ -> Ni, Cu2+ -> Cu and 2H+ -> H2.",
-         (2.0, 2.0, 2.0), Number(lo=0, lo_open=True), "0"),
-    _Row("current", "Current through each cell", "A", "The rectifier current.",
-         (150.0, 25000.0, 5000.0), Number(lo=0, lo_open=True), "#,##0"),
-    _Row("cells", "Cells in series on the rectifier", "cells",
-         "Tanks or stack cells carrying the same current.",
-         (1.0, 48.0, 100.0), Number(lo=1, whole=True), "#,##0"),
-    _Row("efficiency", "Current efficiency", "of current",
-         "Share of the charge that makes the product (Faradaic efficiency).",
-         (0.95, 0.92, 0.98), Number(lo=0, hi=1, lo_open=True, percent=True), "0.0%"),
-    _Row("voltage", "Cell voltage", "V", "Voltage across one cell, busbar losses included.",
-         (4.0, 2.0, 1.9), Number(lo=0, lo_open=True), "0.00"),
-    _Row("hours", "Operating hours per year", "h/year", "Hours at this current per year.",
-         (4000.0, 8000.0, 8000.0), Number(lo=0, hi=8784), "#,##0"),
-    _Row("price", "Electricity price", "USD/kWh",
-         "Demo data (invented): replace with your tariff.",
-         (0.09, 0.06, 0.05), Number(lo=0), "0.000"),
-    _Row("area", "Plated area per load", "dm2", "Surface area of the parts in the tank.",
-         (50.0, NA, NA), Number(lo=0, lo_open=True), "#,##0.0"),
-    _Row("density", "Deposit density", "g/cm3",
-         "Ni 8.90, Cu 8.96, Zn 7.14 (from memory, CRC-HCP).",
-         (8.90, NA, NA), Number(lo=0, lo_open=True), "0.00"),
-    _Row("thickness", "Target thickness", "um", "Average deposit thickness wanted.",
-         (20.0, NA, NA), Number(lo=0, lo_open=True), "0.0"),
-    _Row("target", "Target mass, whole line", "kg",
-         "Electrowinning: one cathode harvest of all cells; electrolyser: hydrogen wanted.",
-         (None, 144000.0, 100.0), Number(lo=0, lo_open=True), "#,##0"),
-)
+class Plant:
+    """The cells of one plant's column: its inputs (one attribute per input row of
+    :data:`udfs.core.input_tables.ELECTROLYSIS`) and its results, set as the rows
+    are written."""
+
+    product: Ref
+    electrons: Ref
+    current: Ref
+    cells: Ref
+    efficiency: Ref
+    voltage: Ref
+    hours: Ref
+    price: Ref
+    area: Ref
+    density: Ref
+    thickness: Ref
+    target: Ref
+    molar: Ref
+    per_cell: Ref
+    kg_h: Ref
+    density_A: Ref
+    mass_needed: Ref
+    time: Ref
+    kwh_kg: Ref
+    power: Ref
+    mwh_year: Ref
+
+    def __init__(self, key: str) -> None:
+        self.key = key
 
 
 def _dash(cell: Cell) -> None:
@@ -123,102 +116,101 @@ def build_electrolysis() -> Workbook:
     legend(w)
     w.section("Inputs")
     w.band(["", *(title for _, title in PROCESSES), "Unit", "Hint"])
-    ref: dict[str, tuple[str, str, str]] = {}
-    for item in _INPUTS:
+    plants = [Plant(key) for key, _ in PROCESSES]
+    first_input: Ref | None = None
+    for key, inputs in _rows():
         here = w.row
-        style(ws[f"B{here}"], "text").value = item.label
-        refs = []
-        for (key, _), col, value in zip(PROCESSES, _COLS, item.values, strict=True):
-            cell = ws[f"{col}{here}"]
-            refs.append(f"${col}${here}")
-            if value == NA or (item.key == "target" and key == "plating"):
-                _dash(cell)
+        first = next(inp for inp in inputs if inp is not None)
+        style(ws[f"B{here}"], "text").value = first.label
+        for plant, inp, col in zip(plants, inputs, _COLS, strict=True):
+            ref = Ref(ws.title, col, here)
+            first_input = first_input or ref
+            setattr(plant, key, ref)  # the declared attribute of this input row
+            if inp is None:
+                _dash(ws[ref.plain])
                 continue
-            cell.value = value
-            style(cell, "input", item.fmt)
-            if item.check is not None:
-                validation(ws, f"{col}{here}", item.check, item.label, item.hint)
-            add_name(wb, f"in_{key}_{item.key}", ws, f"${col}${here}")
-        style(ws[f"F{here}"], "unit").value = item.unit
-        style(ws[f"G{here}"], "hint").value = item.hint
-        ref[item.key] = (refs[0], refs[1], refs[2])
+            style(ws[ref.plain], "input", inp.fmt).value = inp.default
+            if inp.is_number:
+                validate(ws, inp, ref.plain)
+            add_name(wb, inp.name, ws, ref.local)
+        style(ws[f"F{here}"], "unit").value = first.unit
+        style(ws[f"G{here}"], "hint").value = first.hint
         w.row += 1
 
-    def row(key: str, label: str, formulas: tuple[str | None, ...],
-            unit: str, hint: str, kind: Kind = "calc", fmt: str | None = None) -> None:
+    def row(key: str, label: str, formula: Callable[[Plant], str | None], unit: str,
+            hint: str, kind: Kind = "calc", fmt: str | None = None) -> None:
+        """One result row: ``formula`` of each plant (None: the row does not apply)."""
         r = w.row
         style(ws[f"B{r}"], "text").value = label
-        refs = []
-        for (proc, _), col, formula in zip(PROCESSES, _COLS, formulas, strict=True):
-            refs.append(f"${col}${r}")
-            cell = ws[f"{col}{r}"]
-            if formula is None:
-                _dash(cell)
+        for plant, col in zip(plants, _COLS, strict=True):
+            ref = Ref(ws.title, col, r)
+            text = formula(plant)
+            if text is None:
+                _dash(ws[ref.plain])
                 continue
-            style(cell, kind, fmt).value = formula
+            setattr(plant, key, ref)  # the declared attribute of this result row
+            style(ws[ref.plain], kind, fmt).value = text
             if kind == "result":
-                add_name(wb, f"out_{proc}_{key}", ws, f"${col}${r}")
+                add_name(wb, f"out_{plant.key}_{key}", ws, ref.local)
         style(ws[f"F{r}"], "unit").value = unit
         style(ws[f"G{r}"], "hint").value = hint
-        ref[key] = (refs[0], refs[1], refs[2])
         w.row += 1
 
-    Three = tuple[str | None, str | None, str | None]
+    def only(*keys: str) -> Callable[[Callable[[Plant], str]], Callable[[Plant], str | None]]:
+        def wrap(f: Callable[[Plant], str]) -> Callable[[Plant], str | None]:
+            return lambda p: f(p) if p.key in keys else None
+        return wrap
 
-    def each(template: str, only: tuple[int, ...] = (0, 1, 2)) -> Three:
-        def one(k: int) -> str | None:
-            return template.format(**{key: r[k] for key, r in ref.items()}) if k in only else None
-
-        return one(0), one(1), one(2)
-
+    plating = only("plating")
     w.section("Results")
     w.band(["", *(title for _, title in PROCESSES), "Unit", "How it is found"])
-    row("molar", "Molar mass of the product", each("=CW_MOLAR_MASS({product})"),
+    row("molar", "Molar mass of the product", lambda p: f"=CW_MOLAR_MASS({p.product})",
         "g/mol", "CW_MOLAR_MASS, IUPAC 2021 atomic weights", "lookup", "0.000")
     row("per_cell", "Product per cell per hour",
-        each("=CW_CHARGE_TO_MASS({current}*1,{product},{electrons},{efficiency})"),
+        lambda p: f"=CW_CHARGE_TO_MASS({p.current}*1,{p.product},{p.electrons},{p.efficiency})",
         "g/h", "Faraday: I x 1 h x efficiency x M / (n F), CW_CHARGE_TO_MASS", "lookup",
         "#,##0.0")
-    row("kg_h", "Product of the line per hour", each("={per_cell}*{cells}/1000"),
+    row("kg_h", "Product of the line per hour", lambda p: f"={p.per_cell}*{p.cells}/1000",
         "kg/h", "per cell x cells / 1000", "result", "#,##0.000")
-    row("t_year", "Product per year", each("={kg_h}*{hours}/1000"),
+    row("t_year", "Product per year", lambda p: f"={p.kg_h}*{p.hours}/1000",
         "t/year", "kg/h x hours / 1000", fmt="#,##0.0")
-    row("density_A", "Current density", each("={current}/{area}", (0,)),
+    row("density_A", "Current density", plating(lambda p: f"={p.current}/{p.area}"),
         "A/dm2", "current / plated area", fmt="0.00")
     row("mass_needed", "Deposit mass for the target",
-        each("={thickness}*0.0001*{area}*100*{density}", (0,)),
+        plating(lambda p: f"={p.thickness}*0.0001*{p.area}*100*{p.density}"),
         "g", "thickness (um) x 1e-4 x area (dm2) x 100 x density", fmt="#,##0.0")
     row("time", "Time to reach the target",
-        (
-            each("=CW_DEPOSITION_TIME({mass_needed},{current},{product},{electrons},"
-                 "{efficiency})", (0,))[0],
-            *each("=CW_DEPOSITION_TIME({target}*1000,{current}*{cells},{product},{electrons},"
-                  "{efficiency})", (1, 2))[1:],
+        lambda p: (
+            f"=CW_DEPOSITION_TIME({p.mass_needed},{p.current},{p.product},{p.electrons},"
+            f"{p.efficiency})" if p.key == "plating" else
+            f"=CW_DEPOSITION_TIME({p.target}*1000,{p.current}*{p.cells},{p.product},"
+            f"{p.electrons},{p.efficiency})"
         ),
         "h", "Faraday: m n F / (M I efficiency), CW_DEPOSITION_TIME", "result", "#,##0.00")
     row("check_thickness", "Check: thickness after that time",
-        each("=CW_PLATING_THICKNESS({density_A},{time},{product},{electrons},{density},"
-             "{efficiency})", (0,)),
+        plating(lambda p: f"=CW_PLATING_THICKNESS({p.density_A},{p.time},{p.product},"
+                          f"{p.electrons},{p.density},{p.efficiency})"),
         "um", "CW_PLATING_THICKNESS; equals the target", "lookup", "0.00")
     row("kwh_kg", "Electrical energy per kg",
-        each('=CW_ENERGY_PER_MASS({voltage},{product},{electrons},{efficiency},"kWh/kg")'),
+        lambda p: f'=CW_ENERGY_PER_MASS({p.voltage},{p.product},{p.electrons},{p.efficiency},'
+                  '"kWh/kg")',
         "kWh/kg", "V x n F / (M x efficiency), CW_ENERGY_PER_MASS", "result", "#,##0.00")
-    row("power", "DC power of the line", each("={current}*{voltage}*{cells}/1000"),
+    row("power", "DC power of the line", lambda p: f"={p.current}*{p.voltage}*{p.cells}/1000",
         "kW", "I x V x cells / 1000", fmt="#,##0.0")
-    row("mwh_year", "Electricity per year", each("={power}*{hours}/1000"),
+    row("mwh_year", "Electricity per year", lambda p: f"={p.power}*{p.hours}/1000",
         "MWh/year", "kW x hours / 1000", fmt="#,##0.0")
-    row("cost_kg", "Electricity cost per kg", each("={kwh_kg}*{price}"),
+    row("cost_kg", "Electricity cost per kg", lambda p: f"={p.kwh_kg}*{p.price}",
         "USD/kg", "kWh/kg x price (DC side; rectifier losses not included)", "result", "0.000")
-    row("cost_year", "Electricity cost per year", each("={mwh_year}*1000*{price}"),
+    row("cost_year", "Electricity cost per year", lambda p: f"={p.mwh_year}*1000*{p.price}",
         "USD/year", "MWh x 1000 x price", fmt="#,##0")
     row("nm3_h", "Hydrogen volume per hour",
-        each('={kg_h}*1000/{molar}*CW_CONSTANT("R")*273.15/101325', (2,)),
+        only("water")(lambda p: f'={p.kg_h}*1000/{p.molar}*CW_CONSTANT("R")*273.15/101325'),
         "Nm3/h", "ideal gas at 0 degC and 101.325 kPa", fmt="#,##0.0")
     w.section("Hazards")
     for line in HAZARDS:
         w.caution(line, span=6, height=32.0)
-    first_input = ref["product"][0].replace("$", "")
-    finish_sheet(ws, landscape=True, first_cell=first_input, freeze=first_input)
+    assert first_input is not None
+    finish_sheet(ws, landscape=True, first_cell=first_input.plain, freeze=first_input.plain)
     write_notes(
         wb,
         "Notes: method, sources and cautions",

@@ -5,11 +5,12 @@ value cell is one of five kinds, told apart by fill and ink, and the kind also
 decides whether the cell is locked under sheet protection.
 
 >>> from openpyxl import Workbook
+>>> from udfs.core.validate import POSITIVE
 >>> wb = Workbook()
 >>> w = SheetWriter(wb, wb.active, Columns(label="B", value="C", unit="D", note="E"))
->>> ref = w.input(Field("in_mass", "Mass", 2.0, "g", "mass of one part", Number(lo=0)))
->>> ref, wb.active["C1"].protection.locked, wb.defined_names["in_mass"].attr_text
-('$C$1', False, "'Sheet'!$C$1")
+>>> ref = w.input(Input("in_mass", "Mass", "g", "mass of one part", "Parts", POSITIVE, 2.0))
+>>> str(ref), wb.active["C1"].protection.locked, wb.defined_names["in_mass"].attr_text
+("'Sheet'!$C$1", False, "'Sheet'!$C$1")
 """
 
 from __future__ import annotations
@@ -30,16 +31,18 @@ from openpyxl.styles import Alignment, Border, Font, PatternFill, Protection, Si
 from openpyxl.utils import get_column_letter
 from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.workbook.workbook import Workbook
-from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
+
+from ..core.inputs import Input
+from ..core.validate import FreeText
+from .input_rules import data_validation, unit_formula
 
 __all__ = [
     "PALETTE",
-    "Choice",
     "Columns",
-    "Field",
     "Kind",
-    "Number",
+    "Name",
+    "Ref",
     "SheetWriter",
     "add_colour_scale",
     "add_name",
@@ -48,6 +51,7 @@ __all__ = [
     "finish_sheet",
     "heading",
     "style",
+    "validate",
     "value_labels",
 ]
 
@@ -156,70 +160,50 @@ def quote(title: str) -> str:
 
 
 @dataclass(frozen=True)
-class Number:
-    """A numeric input check: bounds (open or closed), blank allowed or not."""
+class Ref:
+    """A typed reference to one cell: ``str(ref)`` is the absolute address a
+    formula on any sheet uses (``'Electrodes'!$C$9``).
 
-    lo: float | None = None
-    hi: float | None = None
-    lo_open: bool = False
-    hi_open: bool = False
-    blank_ok: bool = False
-    whole: bool = False
-    percent: bool = False
+    >>> r = Ref("Electrodes", "C", 9)
+    >>> str(r), r.local, r.plain, str(r.at("D"))
+    ("'Electrodes'!$C$9", '$C$9', 'C9', "'Electrodes'!$D$9")
+    """
 
-    def _show(self, x: float) -> str:
-        return f"{100 * x:g} %" if self.percent else f"{x:g}"
+    sheet: str
+    column: str
+    row: int
 
-    def allowed(self) -> str:
-        parts = []
-        if self.lo is not None:
-            parts.append(f"{'>' if self.lo_open else '>='} {self._show(self.lo)}")
-        if self.hi is not None:
-            parts.append(f"{'<' if self.hi_open else '<='} {self._show(self.hi)}")
-        what = "a whole number" if self.whole else "a number"
-        text = f"{what} {' and '.join(parts)}".strip()
-        return text + (" (or leave it blank)" if self.blank_ok else "")
+    def __str__(self) -> str:
+        return f"{quote(self.sheet)}!{self.local}"
 
-    def formula(self, ref: str) -> str:
-        terms = [f"ISNUMBER({ref})"]
-        if self.lo is not None:
-            terms.append(f"{ref}{'>' if self.lo_open else '>='}{self.lo:g}")
-        if self.hi is not None:
-            terms.append(f"{ref}{'<' if self.hi_open else '<='}{self.hi:g}")
-        if self.whole:
-            terms.append(f"{ref}=ROUND({ref},0)")
-        return f"AND({','.join(terms)})"
+    @property
+    def local(self) -> str:
+        """``$C$9``: the address on its own sheet."""
+        return f"${self.column}${self.row}"
+
+    @property
+    def plain(self) -> str:
+        """``C9``: the address without ``$`` (data validation, array ranges)."""
+        return f"{self.column}{self.row}"
+
+    def at(self, column: str) -> Ref:
+        """The cell in ``column`` of the same row."""
+        return Ref(self.sheet, column, self.row)
 
 
 @dataclass(frozen=True)
-class Choice:
-    """A drop-down: a defined name of a list range, or fixed options."""
+class Name:
+    """A typed reference to a defined name (an input, an output, a list):
+    ``str(name)`` is the name as a formula writes it.
 
-    source: str | tuple[str, ...]
-    blank_ok: bool = False
-
-    def allowed(self) -> str:
-        if isinstance(self.source, tuple):
-            return "one of " + ", ".join(self.source)
-        return "a name from the drop-down list"
-
-    def formula(self) -> str:
-        if isinstance(self.source, tuple):
-            return '"' + ",".join(self.source) + '"'
-        return self.source
-
-
-@dataclass(frozen=True)
-class Field:
-    """One input row: defined name, label, default, unit, one-line hint, check."""
+    >>> f"={Name('in_np_ratio')}*2"
+    '=in_np_ratio*2'
+    """
 
     name: str
-    label: str
-    default: float | str | None
-    unit: str
-    hint: str
-    check: Number | Choice | None = None
-    number_format: str | None = None
+
+    def __str__(self) -> str:
+        return self.name
 
 
 @dataclass(frozen=True)
@@ -232,24 +216,9 @@ class Columns:
     note: str = "E"
 
 
-def validation(ws: Worksheet, ref: str, check: Number | Choice, title: str, hint: str) -> None:
-    """Attach a data validation with an input message and an error message."""
-    plain = ref.replace("$", "")
-    if isinstance(check, Number):
-        dv = DataValidation(
-            type="custom", formula1=check.formula(plain), allow_blank=check.blank_ok
-        )
-    else:
-        dv = DataValidation(type="list", formula1=check.formula(), allow_blank=check.blank_ok)
-    dv.promptTitle = title[:32]
-    dv.prompt = hint[:255]
-    dv.errorTitle = "Not allowed here"
-    dv.error = f"{title}: {check.allowed()}."[:255]
-    dv.showInputMessage = True
-    dv.showErrorMessage = True
-    dv.errorStyle = "stop"
-    ws.add_data_validation(dv)
-    dv.add(plain)
+def validate(ws: Worksheet, inp: Input, ref: str) -> None:
+    """Attach the input's data validation (from its declaration) to ``ref``."""
+    ws.add_data_validation(data_validation(inp, ref))
 
 
 class SheetWriter:
@@ -270,8 +239,9 @@ class SheetWriter:
             self.widths.get(get_column_letter(start + k), 8.43) for k in range(span)
         )
 
-    def ref(self, column: str, row: int | None = None) -> str:
-        return f"${column}${self.row if row is None else row}"
+    def here(self, column: str) -> Ref:
+        """The cell of ``column`` in the current row."""
+        return Ref(self.ws.title, column, self.row)
 
     def skip(self, rows: int = 1) -> None:
         self.row += rows
@@ -325,22 +295,23 @@ class SheetWriter:
         self.ws.row_dimensions[self.row].height = 30.0
         self.row += 1
 
-    def input(self, f: Field) -> str:
-        """Write an input row; define its name; return the value's absolute ref."""
+    def input(self, inp: Input, value: float | str | None = None) -> Ref:
+        """Write an input row from its declaration (label, default or ``value``,
+        unit, hint, data validation); define its name; return its cell."""
         ws, cols = self.ws, self.cols
-        ws[f"{cols.label}{self.row}"] = f.label
+        ws[f"{cols.label}{self.row}"] = inp.label
         style(ws[f"{cols.label}{self.row}"], "text")
         cell = ws[f"{cols.value}{self.row}"]
-        cell.value = f.default
-        style(cell, "input", f.number_format)
-        ws[f"{cols.unit}{self.row}"] = f.unit
+        cell.value = inp.default if value is None else value
+        style(cell, "input", inp.fmt)
+        ws[f"{cols.unit}{self.row}"] = unit_formula(inp)
         style(ws[f"{cols.unit}{self.row}"], "unit")
-        ws[f"{cols.note}{self.row}"] = f.hint
+        ws[f"{cols.note}{self.row}"] = inp.hint
         style(ws[f"{cols.note}{self.row}"], "hint")
-        ref = self.ref(cols.value)
-        if f.check is not None:
-            validation(ws, ref, f.check, f.label, f.hint)
-        add_name(self.wb, f.name, ws, ref)
+        ref = Ref(ws.title, cols.value, self.row)
+        if not isinstance(inp.domain, FreeText):
+            validate(ws, inp, ref.plain)
+        add_name(self.wb, inp.name, ws, ref.local)
         self.row += 1
         return ref
 
@@ -353,7 +324,7 @@ class SheetWriter:
         kind: Kind = "calc",
         number_format: str | None = None,
         name: str | None = None,
-    ) -> str:
+    ) -> Ref:
         """Write a computed row (native formula, CW_ look-up or key result)."""
         ws, cols = self.ws, self.cols
         ws[f"{cols.label}{self.row}"] = label
@@ -364,9 +335,9 @@ class SheetWriter:
         if note:
             ws[f"{cols.note}{self.row}"] = note
             style(ws[f"{cols.note}{self.row}"], "hint")
-        ref = self.ref(cols.value)
+        ref = Ref(ws.title, cols.value, self.row)
         if name:
-            add_name(self.wb, name, ws, ref)
+            add_name(self.wb, name, ws, ref.local)
         self.row += 1
         return ref
 

@@ -10,38 +10,27 @@ potential against activity over six decades.
 
 from __future__ import annotations
 
-from typing import Any
-
 from openpyxl import Workbook
 from openpyxl.chart import Reference, ScatterChart, Series
 
-from ..core import catalogue
+from ..core.input_tables import POTENTIALS, SPECIES_ROWS
+from ..core.validate import FreeText, Names
+from .input_rules import list_name
 from .layout import (
     PALETTE,
-    Choice,
     Columns,
-    Field,
     Kind,
-    Number,
+    Ref,
     SheetWriter,
     add_name,
     finish_sheet,
     heading,
-    quote,
     style,
-    validation,
+    validate,
 )
 from .notes import CAUTION, legend, write_notes
 
 __all__ = ["SPECIES_ROWS", "build_potentials"]
-
-#: Species rows per electrode (name and activity).
-SPECIES_ROWS = 4
-
-_DEFAULTS = (
-    ("Cu2+/Cu", (("Cu2+", 0.01),)),
-    ("Zn2+/Zn", (("Zn2+", 1.0),)),
-)
 
 #: Decades of the sweep: log10(activity) from -6 to 0 in half-decade steps.
 SWEEP = tuple(-6.0 + 0.5 * i for i in range(13))
@@ -50,28 +39,27 @@ SWEEP = tuple(-6.0 + 0.5 * i for i in range(13))
 def _lists(wb: Workbook) -> None:
     ws = wb.create_sheet("Lists")
     ws["A1"] = "Couples of the catalogue (written by the template builder)"
-    ids = catalogue.couple_ids()
+    names = POTENTIALS.get("in_couple_1").domain
+    assert isinstance(names, Names)
+    ids = names.names()
     style(ws["A3"], "band").value = "couple"
     for i, cid in enumerate(ids):
         ws[f"A{4 + i}"] = cid
-    add_name(wb, "list_couple", ws, f"$A$4:$A${3 + len(ids)}")
+    add_name(wb, list_name(names), ws, f"$A$4:$A${3 + len(ids)}")
     ws.column_dimensions["A"].width = 22
     ws.sheet_state = "hidden"
     ws.protection.sheet = True
 
 
-def _electrons(text_ref: str) -> str:
+def _electrons(text_ref: Ref) -> str:
     """Electrons of a half-reaction read from its text ('... + 2e- = ...'; 'e-' is 1)."""
     word = f'TRIM(RIGHT(SUBSTITUTE(LEFT({text_ref},FIND("e-",{text_ref})-1)," ",REPT(" ",20)),20))'
     return f'=IF({word}="",1,VALUE({word}))'
 
 
-def _activities(col: str, first: int, rows: range) -> str:
-    """Native text 'species=value; ...' from the species rows (blank species skipped)."""
-    parts = []
-    for k in rows:
-        sp, val = f"{col}{first + 2 * k}", f"{col}{first + 2 * k + 1}"
-        parts.append(f'IF(ISBLANK({sp}),"",{sp}&"="&{val}&"; ")')
+def _activities(rows: list[tuple[Ref, Ref]]) -> str:
+    """Native text 'species=value; ...' from (species, activity) cells (blank species skipped)."""
+    parts = [f'IF(ISBLANK({sp}),"",{sp}&"="&{val}&"; ")' for sp, val in rows]
     return "=" + "&".join(parts) if parts else '=""'
 
 
@@ -92,81 +80,67 @@ def build_potentials() -> Workbook:
     w.caution(CAUTION, span=5, height=32.0)
     legend(w)
     w.section("Conditions")
-    w.input(Field("in_temp_C", "Temperature", 25.0, "degC",
-                  "Both electrodes; E0 shifts by its dE0/dT where the catalogue has one.",
-                  Number(lo=-273.15, lo_open=True), "0.0"))
+    w.input(POTENTIALS.get("in_temp_C"))
 
     w.section("Electrodes")
     w.band(["", "Electrode 1", "Electrode 2", "Unit", "Hint"])
-    ref: dict[str, tuple[str, str]] = {}
+    Pair = tuple[Ref, Ref]
 
-    def pair_inputs(key: str, label: str, values: tuple[Any, ...], unit: str, hint: str,
-                    check: Number | Choice | None, fmt: str | None = None) -> None:
+    def pair_inputs(key: str) -> Pair:
+        """One row of the two electrodes' inputs ``in_{key}_1`` and ``in_{key}_2``."""
         row = w.row
-        style(ws[f"B{row}"], "text").value = label
+        pair = [POTENTIALS.get(f"in_{key}_{e}") for e in (1, 2)]
+        style(ws[f"B{row}"], "text").value = pair[0].label
         refs = []
-        for k, col in enumerate("CD"):
-            cell = ws[f"{col}{row}"]
-            cell.value = values[k]
-            style(cell, "input", fmt)
-            if check is not None:
-                validation(ws, f"{col}{row}", check, label, hint)
-            add_name(wb, f"in_{key}_{k + 1}", ws, f"${col}${row}")
-            refs.append(f"${col}${row}")
-        style(ws[f"E{row}"], "unit").value = unit
-        style(ws[f"F{row}"], "hint").value = hint
-        ref[key] = (refs[0], refs[1])
+        for inp, col in zip(pair, "CD", strict=True):
+            ref = Ref(ws.title, col, row)
+            style(ws[ref.plain], "input", inp.fmt).value = inp.default
+            if not isinstance(inp.domain, FreeText):
+                validate(ws, inp, ref.plain)
+            add_name(wb, inp.name, ws, ref.local)
+            refs.append(ref)
+        style(ws[f"E{row}"], "unit").value = pair[0].unit
+        style(ws[f"F{row}"], "hint").value = pair[0].hint
         w.row += 1
+        return refs[0], refs[1]
 
-    def pair_calc(key: str, label: str, formulas: tuple[str, ...], unit: str, hint: str,
-                  kind: Kind = "calc", fmt: str | None = None) -> None:
+    def pair_calc(label: str, formulas: tuple[str, str], unit: str, hint: str,
+                  kind: Kind = "calc", fmt: str | None = None) -> Pair:
         row = w.row
         style(ws[f"B{row}"], "text").value = label
         for k, col in enumerate("CD"):
             style(ws[f"{col}{row}"], kind, fmt).value = formulas[k]
         style(ws[f"E{row}"], "unit").value = unit
         style(ws[f"F{row}"], "hint").value = hint
-        ref[key] = (f"$C${row}", f"$D${row}")
         w.row += 1
+        return Ref(ws.title, "C", row), Ref(ws.title, "D", row)
 
-    pair_inputs("couple", "Couple", (_DEFAULTS[0][0], _DEFAULTS[1][0]), "id",
-                "Pick a couple of the catalogue (oxidised/reduced form).", Choice("list_couple"))
-    c1, c2 = ref["couple"]
-    pair_calc("reaction", "Half-reaction", (f"=CW_HALF_REACTION({c1})",
-                                            f"=CW_HALF_REACTION({c2})"),
-              "", "as written in the catalogue (reduction)", "lookup")
-    first_species = w.row
-    for k in range(SPECIES_ROWS):
-        names = tuple(d[1][k][0] if k < len(d[1]) else None for d in _DEFAULTS)
-        values = tuple(d[1][k][1] if k < len(d[1]) else None for d in _DEFAULTS)
-        pair_inputs(f"species{k + 1}", f"Species {k + 1}", names, "name",
-                    "A species of the half-reaction, or pH; blank rows are skipped."
-                    if k == 0 else "Optional.", None)
-        pair_inputs(f"activity{k + 1}", f"Activity of species {k + 1}", values,
-                    "mol/L, bar, pH",
-                    "Dissolved: mol/L; gases: bar; 'pH' takes the pH. Pure solids: leave out."
-                    if k == 0 else "Optional.",
-                    Number(lo=0, lo_open=True, blank_ok=True), "0.000E+00" if k else "General")
-    text = tuple(_activities(col, first_species, range(SPECIES_ROWS)) for col in "CD")
-    rest = tuple(_activities(col, first_species, range(1, SPECIES_ROWS)) for col in "CD")
-    pair_calc("acts", "Activities passed on", text, "text",
-              "built from the rows above; other species at their standard state")
-    pair_calc("rest", "Activities kept in the sweep", rest, "text",
-              "species 2 to 4 (species 1 is swept on the Sweep sheet)")
-    a1, a2 = ref["acts"]
-    pair_calc("e0", "Standard potential at the temperature",
+    c1, c2 = couples = pair_inputs("couple")
+    r1, r2 = pair_calc("Half-reaction", (f"=CW_HALF_REACTION({c1})", f"=CW_HALF_REACTION({c2})"),
+                       "", "as written in the catalogue (reduction)", "lookup")
+    species: list[tuple[Pair, Pair]] = []  # (species, activity) of each row
+    for k in range(1, SPECIES_ROWS + 1):
+        species.append((pair_inputs(f"species{k}"), pair_inputs(f"activity{k}")))
+
+    def rows(e: int, first: int) -> list[tuple[Ref, Ref]]:
+        return [(sp[e], act[e]) for sp, act in species[first:]]
+
+    a1, a2 = pair_calc("Activities passed on", (_activities(rows(0, 0)), _activities(rows(1, 0))),
+                       "text", "built from the rows above; other species at their standard state")
+    rest = pair_calc("Activities kept in the sweep",
+                     (_activities(rows(0, 1)), _activities(rows(1, 1))), "text",
+                     "species 2 to 4 (species 1 is swept on the Sweep sheet)")
+    pair_calc("Standard potential at the temperature",
               (f"=CW_E0({c1},in_temp_C)", f"=CW_E0({c2},in_temp_C)"), "V vs SHE",
               "E0 + dE0/dT x (T - 25 degC) where tabulated", "lookup", "0.0000")
-    pair_calc("E", "Electrode potential",
-              (f"=CW_POTENTIAL({c1},{a1},in_temp_C)", f"=CW_POTENTIAL({c2},{a2},in_temp_C)"),
-              "V vs SHE", "Nernst: E0 - (ln10 R T / n F) log10 Q", "result", "0.0000")
-    e1, e2 = ref["E"]
-    add_name(wb, "out_E1_V", ws, e1)
-    add_name(wb, "out_E2_V", ws, e2)
-    r1, r2 = ref["reaction"]
-    pair_calc("n", "Electrons in the half-reaction", (_electrons(r1), _electrons(r2)), "",
-              "read from the half-reaction text", fmt="0")
-    n1, n2 = ref["n"]
+    e1, e2 = pair_calc(
+        "Electrode potential",
+        (f"=CW_POTENTIAL({c1},{a1},in_temp_C)", f"=CW_POTENTIAL({c2},{a2},in_temp_C)"),
+        "V vs SHE", "Nernst: E0 - (ln10 R T / n F) log10 Q", "result", "0.0000")
+    add_name(wb, "out_E1_V", ws, e1.local)
+    add_name(wb, "out_E2_V", ws, e2.local)
+    n1, n2 = pair_calc("Electrons in the half-reaction", (_electrons(r1), _electrons(r2)), "",
+                       "read from the half-reaction text", fmt="0")
 
     w.section("Cell made of the two electrodes")
     cath = w.value("Cathode (higher potential)", f"=IF({e1}>={e2},{c1},{c2})", "id",
@@ -187,9 +161,9 @@ def build_potentials() -> Workbook:
             "0.00", name="out_dG_kJ_mol")
     w.value("Gibbs energy per mole of electrons", f'=-CW_CONSTANT("F")*{ocv}/1000', "kJ/mol e-",
             "-F x OCV (F from CODATA 2018)", number_format="0.00")
-    finish_sheet(ws, first_cell=ref["couple"][0].replace("$", ""), freeze="A5")
+    finish_sheet(ws, first_cell=c1.plain, freeze="A5")
 
-    _sweep(wb, ref)
+    _sweep(wb, couples, species[0][0], rest)
     write_notes(
         wb,
         "Notes: method, sources and cautions",
@@ -221,23 +195,23 @@ def build_potentials() -> Workbook:
     return wb
 
 
-def _sweep(wb: Workbook, ref: dict[str, tuple[str, str]]) -> None:
+def _sweep(wb: Workbook, couples: tuple[Ref, Ref], species1: tuple[Ref, Ref],
+           rest: tuple[Ref, Ref]) -> None:
     """Potential of each electrode against the activity of its species 1."""
     ws = wb.create_sheet("Sweep")
     w = SheetWriter(
         wb, ws, Columns(),
         {"A": 2.5, "B": 14.0, "C": 14.0, "D": 24.0, "E": 24.0, "F": 12.0},
     )
-    p = quote("Potentials")
     w.title(
         "Potential against activity",
         "Species 1 of each electrode swept over six decades; the other species as given.",
     )
     w.skip()
     w.band(["log10 activity", "Activity", "Electrode 1", "Electrode 2", "|E1 - E2|"])
-    c1, c2 = (f"{p}!{x}" for x in ref["couple"])
-    s1, s2 = (f"{p}!{x}" for x in ref["species1"])
-    k1, k2 = (f"{p}!{x}" for x in ref["rest"])
+    c1, c2 = couples
+    s1, s2 = species1
+    k1, k2 = rest
     row = w.row
     style(ws[f"B{row}"], "unit").value = ""
     style(ws[f"C{row}"], "unit").value = "mol/L, bar"

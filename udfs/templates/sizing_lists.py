@@ -1,7 +1,9 @@
 """The hidden ``Lists`` sheet of the cell-sizing workbook: the catalogue's
-material names (static, written by the builder from :mod:`udfs.core.catalogue`)
-that feed the drop-downs, the demo price list (invented demo data), and the
-element mass fractions of materials that have no formula.
+material names and their aliases (static, written by the builder from
+:mod:`udfs.core.catalogue`, one list per catalogue name input of
+:data:`udfs.core.sizing_table.CELL_SIZING`) that feed the drop-downs, the demo
+price list (invented demo data), and the element mass fractions of materials
+that have no formula.
 
 Values of materials with a formula are not stored here: the workbook reads
 them live with ``CW_MATERIAL`` and ``CW_MASS_FRACTION``.
@@ -19,25 +21,31 @@ from openpyxl.worksheet.worksheet import Worksheet
 from ..core import catalogue, procurement
 from ..core.errors import NotFoundError
 from ..core.sizing import price_basis
+from ..core.sizing_table import CELL_SIZING
+from ..core.validate import Names
+from .input_rules import list_name
 from .layout import add_name, style
 
-__all__ = ["ELEMENTS", "LIST_ROLES", "demo_price", "write_lists"]
+__all__ = ["ELEMENTS", "demo_price", "list_entries", "name_lists", "write_lists"]
 
 #: Elements reported on the Procurement sheet, in this order.
 ELEMENTS: tuple[str, ...] = ("Li", "Ni", "Co", "Mn", "Fe", "Al", "Cu")
 
-#: Drop-down list name -> catalogue role or category.
-LIST_ROLES: tuple[tuple[str, str], ...] = (
-    ("list_cathode", "cathode"),
-    ("list_anode", "anode"),
-    ("list_binder", "binder"),
-    ("list_carbon", "conductive_carbon"),
-    ("list_foil", "foil"),
-    ("list_separator", "separator"),
-    ("list_electrolyte", "electrolyte"),
-    ("list_tab", "tab"),
-    ("list_housing", "housing"),
-)
+def name_lists() -> list[Names]:
+    """The catalogue name domains of the cell-sizing inputs, one per drop-down
+    list, in the order the inputs first use them."""
+    out: list[Names] = []
+    for inp in CELL_SIZING:
+        if isinstance(inp.domain, Names) and inp.domain not in out:
+            out.append(inp.domain)
+    return out
+
+
+def list_entries(names: Names) -> list[str]:
+    """A drop-down list: the catalogue's names, then their aliases (LFP, NCM811)."""
+    canonical = names.names()
+    aliases = [a for n in canonical for a in catalogue.material(n).aliases]
+    return [*canonical, *aliases]
 
 
 def demo_price(name: str) -> tuple[float, str] | None:
@@ -67,16 +75,17 @@ def write_lists(wb: Workbook) -> Worksheet:
     """Write the hidden Lists sheet and its defined names; return the sheet."""
     ws = wb.create_sheet("Lists")
     ws["A1"] = "Lists for the drop-downs and look-ups (written by the template builder)"
-    for k, (list_name, role) in enumerate(LIST_ROLES):
+    lists = name_lists()
+    for k, names in enumerate(lists):
         col = get_column_letter(1 + k)
-        names = catalogue.material_names(role)
-        style(ws[f"{col}3"], "band").value = role.replace("_", " ")
-        for i, name in enumerate(names):
+        entries = list_entries(names)
+        style(ws[f"{col}3"], "band").value = names.what
+        for i, name in enumerate(entries):
             ws[f"{col}{4 + i}"] = name
-        add_name(wb, list_name, ws, f"${col}$4:${col}${3 + len(names)}")
+        add_name(wb, list_name(names), ws, f"${col}$4:${col}${3 + len(entries)}")
 
     # the material table: one row per catalogue material
-    first = len(LIST_ROLES) + 2
+    first = len(lists) + 2
     headers = [
         "material", "kind", "has formula", "demo price", "demo price unit",
         *(f"{el} mass fraction" for el in ELEMENTS), "note",
@@ -114,7 +123,7 @@ def write_lists(wb: Workbook) -> Worksheet:
     add_name(wb, "list_demo_unit", ws, column(4))
     lo, hi = get_column_letter(first + 5), get_column_letter(first + 4 + len(ELEMENTS))
     add_name(wb, "list_fractions", ws, f"${lo}$4:${hi}${last}")
-    for k in range(len(LIST_ROLES) + len(headers) + 1):
+    for k in range(len(lists) + len(headers) + 1):
         ws.column_dimensions[get_column_letter(1 + k)].width = 20
     ws.sheet_state = "hidden"
     ws.protection.sheet = True

@@ -7,11 +7,13 @@ Two passes, both bounded:
    parts, encrypted or duplicated entries. Python's zipfile never inflates a
    part past its declared size, so these checks bound all later reading.
    Only stored and deflated parts are accepted (what spreadsheet programs write).
-2. **Streaming XML pass** with defusedxml (a DTD or entity declaration in any
-   part is refused): rows, cells, formula cells and shared strings are counted
-   and the pass stops as soon as a limit is passed; every formula is checked
-   for length and nesting depth. External links and macros are reported, never
-   followed or run.
+2. **Structure** with defusedxml (a DTD or entity declaration in any part is
+   refused): the workbook part, its sheets and names; the part maps of the
+   package (relationships and [Content_Types].xml) must agree, so every reader
+   reads the parts checked here; the number of cell formats. External links and
+   macros are reported, never followed or run. The sheets' own limits (rows,
+   cells, formulas, strings, ranges) are checked by :mod:`udfs.xlsx.reader` in
+   the one pass that reads them.
 
 The limits (module constants, bundled in :class:`Limits`):
 
@@ -24,13 +26,15 @@ MAX_PART_BYTES             64 MiB       one part, uncompressed
 MAX_TOTAL_BYTES            256 MiB      all parts, uncompressed
 MAX_RATIO                  100          uncompressed/compressed, parts over 1 MiB
 MAX_CELLS                  1,000,000    ``<c>`` elements in all sheets
-MAX_FORMULA_CELLS          10,000       the engine needs ~100 kB and ~3 ms per
-                                        formula cell (about 1 GB, 30-60 s at the limit)
+MAX_FORMULA_CELLS          200,000      formula cells (``--max-formulas`` raises it)
 MAX_ROWS                   250,000      ``<row>`` elements (millions of empty rows)
 MAX_SHARED_STRINGS         500,000      shared-strings table entries
 MAX_DEFINED_NAMES          10,000       defined names
 MAX_FORMULA_LENGTH         8,192        characters, Excel's own limit
 MAX_NESTING                64           nested function calls, Excel's own limit
+MAX_RANGES                 100,000      merged ranges, hyperlinks, data validations,
+                                        conditional formats (each kind)
+MAX_STYLES                 65,000       cell formats in the styles part (Excel: 64,000)
 =========================  ===========  ==========================================
 
 A hostile file is refused after reading at most MAX_TOTAL_BYTES of XML; on a
@@ -59,14 +63,16 @@ __all__ = [
     "MAX_NESTING",
     "MAX_PARTS",
     "MAX_PART_BYTES",
+    "MAX_RANGES",
     "MAX_RATIO",
     "MAX_ROWS",
     "MAX_SHARED_STRINGS",
+    "MAX_STYLES",
     "MAX_TOTAL_BYTES",
     "Limits",
     "PackageReport",
+    "check_package",
     "formula_nesting",
-    "inspect_package",
 ]
 
 MiB = 1024 * 1024
@@ -77,18 +83,20 @@ MAX_TOTAL_BYTES = 256 * MiB
 MAX_RATIO = 100.0
 RATIO_MIN_BYTES = 1 * MiB  # small parts may compress better than 100:1 harmlessly
 MAX_CELLS = 1_000_000
-MAX_FORMULA_CELLS = 10_000
+MAX_FORMULA_CELLS = 200_000
 MAX_ROWS = 250_000
 MAX_SHARED_STRINGS = 500_000
 MAX_DEFINED_NAMES = 10_000
 MAX_FORMULA_LENGTH = 8_192
 MAX_NESTING = 64
+MAX_RANGES = 100_000
+MAX_STYLES = 65_000
 _PROLOG_PARTS = (".xml", ".rels", ".vml")
 
 
 @dataclass(frozen=True)
 class Limits:
-    """The limits :func:`inspect_package` applies (defaults: the module constants)."""
+    """The limits the checks and the reader apply (defaults: the module constants)."""
 
     input_bytes: int = MAX_INPUT_BYTES
     parts: int = MAX_PARTS
@@ -103,6 +111,8 @@ class Limits:
     defined_names: int = MAX_DEFINED_NAMES
     formula_length: int = MAX_FORMULA_LENGTH
     nesting: int = MAX_NESTING
+    ranges: int = MAX_RANGES
+    styles: int = MAX_STYLES
 
 
 DEFAULT_LIMITS = Limits()
@@ -117,6 +127,7 @@ class PackageReport:
     formula_cells: int = 0
     rows: int = 0
     shared_strings: int = 0
+    shared_strings_part: str | None = None
     macros: list[str] = field(default_factory=list)
     external_links: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
@@ -131,6 +142,8 @@ def _size(n: float) -> str:
 
 def formula_nesting(text: str) -> int:
     """Deepest nesting of function calls in a formula (strings and quoted names skipped)."""
+    if text.count("(") <= 1:
+        return text.count("(")
     depth = best = 0
     stack: list[bool] = []
     quote = ""
@@ -206,58 +219,54 @@ def _check_prologs(pkg: Package) -> None:
             continue
 
 
-def _scan_sheet(pkg: Package, part: str, sheet: str, limits: Limits, rep: PackageReport) -> None:
+def _check_maps(pkg: Package, rep: PackageReport) -> None:
+    """The workbook and shared-strings parts named by the relationships must be the ones
+    [Content_Types].xml declares: readers that follow either map then read the same parts."""
     name = pkg.name
-    for elem in pkg.iter_xml(part):
-        tag = local(elem.tag)
-        if tag == "c":
-            rep.cells += 1
-            if rep.cells > limits.cells:
-                raise HostileFileError(name, f"more than {limits.cells:,} cells")
-        elif tag == "f":
-            rep.formula_cells += 1
-            if rep.formula_cells > limits.formula_cells:
-                raise HostileFileError(name, f"more than {limits.formula_cells:,} formula cells")
-            text = elem.text or ""
-            if len(text) > limits.formula_length:
-                raise HostileFileError(
-                    name,
-                    f"a formula on sheet {sheet!r} is {len(text):,} characters long "
-                    f"(limit {limits.formula_length:,})",
-                )
-            depth = formula_nesting(text)
-            if depth > limits.nesting:
-                raise HostileFileError(
-                    name,
-                    f"a formula on sheet {sheet!r} nests {depth} function calls "
-                    f"(limit {limits.nesting}, as in Excel)",
-                )
-        elif tag == "row":
-            rep.rows += 1
-            if rep.rows > limits.rows:
-                raise HostileFileError(name, f"more than {limits.rows:,} rows")
-            elem.clear()
+    declared = pkg.parts_of_type(".main+xml")
+    if declared != [pkg.workbook_part]:
+        shown = ", ".join(declared) or "none"
+        raise HostileFileError(
+            name,
+            f"the package's maps disagree: its relationships name {pkg.workbook_part} as the "
+            f"workbook, [Content_Types].xml names {shown}",
+        )
+    strings = [
+        target
+        for rtype, target, mode in pkg.relationships(pkg.workbook_part).values()
+        if rtype == "/sharedStrings" and mode != "External"
+    ]
+    typed = pkg.parts_of_type("sharedstrings+xml")
+    if sorted(strings) != typed or len(typed) > 1:
+        raise HostileFileError(
+            name,
+            "the package's maps disagree on the shared strings: relationships name "
+            f"{', '.join(strings) or 'none'}, [Content_Types].xml {', '.join(typed) or 'none'}",
+        )
+    for part in strings:
+        if part not in pkg.names:
+            raise WorkbookError(f"{name}: damaged: shared strings part {part} is missing")
+    rep.shared_strings_part = strings[0] if strings else None
+    listed = {s.part for s in pkg.sheets}
+    for part in pkg.parts_of_type("worksheet+xml"):
+        if part not in listed:
+            raise HostileFileError(
+                name, f"the package's maps disagree: {part} is a sheet the workbook does not list"
+            )
 
 
-def _scan_shared_strings(pkg: Package, limits: Limits, rep: PackageReport) -> None:
-    part = next(
-        (
-            target
-            for rtype, target, _ in pkg.relationships(pkg.workbook_part).values()
-            if rtype == "/sharedStrings"
-        ),
-        None,
-    )
-    if part is None or part not in pkg.names:
-        return
-    for elem in pkg.iter_xml(part):
-        if local(elem.tag) == "si":
-            rep.shared_strings += 1
-            if rep.shared_strings > limits.shared_strings:
-                raise HostileFileError(
-                    pkg.name, f"more than {limits.shared_strings:,} shared strings"
-                )
-            elem.clear()
+def _check_styles(pkg: Package, limits: Limits) -> None:
+    for rtype, target, _mode in pkg.relationships(pkg.workbook_part).values():
+        if rtype != "/styles" or target not in pkg.names:
+            continue
+        count = 0
+        for elem in pkg.iter_xml(target):
+            if local(elem.tag) == "xf":
+                count += 1
+                if count > limits.styles:
+                    raise HostileFileError(
+                        pkg.name, f"more than {limits.styles:,} cell formats in {target}"
+                    )
 
 
 def _report_active_content(pkg: Package, rep: PackageReport) -> None:
@@ -283,11 +292,12 @@ def _report_active_content(pkg: Package, rep: PackageReport) -> None:
         )
 
 
-def inspect_package(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> PackageReport:
-    """Check ``data`` (the bytes of an .xlsx) against ``limits``; report what it holds.
+def check_package(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> PackageReport:
+    """Check ``data`` (the bytes of an .xlsx) before its sheets are read: size, zip
+    directory, DTDs, structure, consistent part maps, styles; report macros and links.
 
-    Raises HostileFileError (a limit passed, a DTD, encryption) or WorkbookError
-    (not an .xlsx, damaged parts).
+    The sheets themselves are checked while :func:`udfs.xlsx.reader.read_workbook`
+    reads them. Raises HostileFileError or WorkbookError.
     """
     if len(data) > limits.input_bytes:
         raise HostileFileError(
@@ -298,11 +308,10 @@ def inspect_package(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> 
     _check_prologs(pkg)
     pkg.read_structure(limits.defined_names)
     rep = PackageReport(pkg)
-    for sheet in pkg.sheets:
-        if sheet.kind == "worksheet" and sheet.part in pkg.names:
-            _scan_sheet(pkg, sheet.part, sheet.name, limits, rep)
-        elif sheet.kind == "worksheet":
+    for sheet in pkg.worksheets():
+        if sheet.part not in pkg.names:
             raise WorkbookError(f"{name}: damaged: sheet {sheet.name!r} points at a missing part")
-    _scan_shared_strings(pkg, limits, rep)
+    _check_maps(pkg, rep)
+    _check_styles(pkg, limits)
     _report_active_content(pkg, rep)
     return rep

@@ -19,16 +19,17 @@ import io
 import posixpath
 import re
 import zipfile
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from typing import IO
 from xml.etree.ElementTree import Element, ParseError
+from xml.parsers import expat
 
 from defusedxml import DefusedXmlException
 from defusedxml.ElementTree import fromstring, iterparse
 
 from .file_errors import HostileFileError, WorkbookError
-from .refs import CellRef, col_index
+from .refs import CellRef, col_index, sheet_key
 
 __all__ = [
     "DefinedName",
@@ -113,6 +114,8 @@ class Package:
         self.sheets: list[SheetEntry] = []
         self.defined_names: list[DefinedName] = []
         self.has_calc_pr = False
+        self.iterate = False  # calcPr asks for iterative calculation
+        self._types: tuple[dict[str, str], dict[str, str]] | None = None
 
     # ----------------------------------------------------------------- reading
     def open(self, part: str) -> IO[bytes]:
@@ -147,6 +150,35 @@ class Package:
         with self._reading(part), self.zip.open(part) as fh:
             for _event, elem in iterparse(fh, events=events, forbid_dtd=True):
                 yield elem
+
+    def scan(
+        self,
+        part: str,
+        start: Callable[[str, dict[str, str]], None],
+        end: Callable[[str], None],
+        text: Callable[[str], None],
+    ) -> None:
+        """Stream a large part through expat's callbacks (local tag names), hardened as
+        defusedxml hardens it: a DTD, entity declaration or external entity is refused."""
+
+        def refuse(*_args: object) -> None:
+            raise HostileFileError(self.name, f"{part} declares a DTD or entities")
+
+        parser = expat.ParserCreate()
+        parser.buffer_text = True
+        parser.SetParamEntityParsing(expat.XML_PARAM_ENTITY_PARSING_NEVER)
+        parser.StartDoctypeDeclHandler = refuse
+        parser.EntityDeclHandler = refuse
+        parser.UnparsedEntityDeclHandler = refuse
+        parser.ExternalEntityRefHandler = refuse  # type: ignore[assignment]
+        parser.StartElementHandler = lambda name, attrs: start(name.rpartition(":")[2], attrs)
+        parser.EndElementHandler = lambda name: end(name.rpartition(":")[2])
+        parser.CharacterDataHandler = text
+        with self._reading(part), self.zip.open(part) as fh:
+            try:
+                parser.ParseFile(fh)
+            except expat.ExpatError as exc:
+                raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
 
     def relationships(self, part: str) -> dict[str, tuple[str, str, str]]:
         """Relationships of ``part``: id -> (type suffix, target part, target mode)."""
@@ -209,16 +241,36 @@ class Package:
                 )
             elif tag == "calcPr":
                 self.has_calc_pr = True
+                self.iterate = el.get("iterate") in ("1", "true")
         if not self.sheets:
             raise WorkbookError(f"{self.name}: the workbook has no sheets")
 
+    def content_type(self, part: str) -> str:
+        """The content type [Content_Types].xml gives ``part`` (override, else by extension)."""
+        if self._types is None:
+            overrides: dict[str, str] = {}
+            defaults: dict[str, str] = {}
+            for el in self.xml("[Content_Types].xml"):
+                tag = local(el.tag)
+                if tag == "Override":
+                    part_name = el.get("PartName", "").lstrip("/").lower()
+                    overrides[part_name] = el.get("ContentType", "")
+                elif tag == "Default":
+                    defaults[el.get("Extension", "").lower()] = el.get("ContentType", "")
+            self._types = (overrides, defaults)
+        overrides, defaults = self._types
+        key = part.lower()
+        if key in overrides:
+            return overrides[key]
+        return defaults.get(key.rpartition(".")[2], "")
+
+    def parts_of_type(self, suffix: str) -> list[str]:
+        """Parts whose declared content type ends with ``suffix`` (e.g. "sheet.main+xml")."""
+        return sorted(n for n in self.names if self.content_type(n).lower().endswith(suffix))
+
     def main_content_type(self) -> str:
         """Content type of the workbook part (tells .xlsx from macro-enabled .xlsm)."""
-        want = "/" + self.workbook_part
-        for el in self.xml("[Content_Types].xml"):
-            if local(el.tag) == "Override" and el.get("PartName", "").lower() == want.lower():
-                return el.get("ContentType", "")
-        return ""
+        return self.content_type(self.workbook_part)
 
     def is_macro_enabled(self) -> bool:
         return "macroenabled" in self.main_content_type().lower()
@@ -227,8 +279,9 @@ class Package:
         return [s for s in self.sheets if s.kind == "worksheet"]
 
     def sheet(self, name: str) -> SheetEntry | None:
-        """The sheet called ``name`` (case-insensitive, as spreadsheets do)."""
+        """The sheet called ``name``, compared as Excel compares sheet names."""
+        key = sheet_key(name)
         for s in self.sheets:
-            if s.name.casefold() == name.casefold():
+            if sheet_key(s.name) == key:
                 return s
         return None

@@ -25,6 +25,7 @@ __all__ = [
     "parse_cell",
     "parse_value",
     "quote_sheet",
+    "sheet_key",
     "split_coordinate",
 ]
 
@@ -55,6 +56,16 @@ def col_letters(index: int) -> str:
         index, rem = divmod(index - 1, 26)
         out = chr(65 + rem) + out
     return out
+
+
+def sheet_key(name: str) -> str:
+    """A sheet name as Excel compares it: each character in upper case where that is one
+    character, so "inputs" matches "Inputs" but "Maße" does not match "Masse".
+
+    >>> sheet_key("Inputs") == sheet_key("INPUTS"), sheet_key("Maße") == sheet_key("Masse")
+    (True, False)
+    """
+    return "".join(u if len(u := ch.upper()) == 1 else ch for ch in name)
 
 
 def quote_sheet(name: str) -> str:

@@ -1,12 +1,10 @@
-"""The one adapter between spreadsheet cells and the core.
+"""Calling a declared spreadsheet function: cell values in, cell values out.
 
-``@sheet_function`` turns a small ``compute`` function (floats/arrays and
-texts in, the core's answer out) into a spreadsheet function that
+A :class:`Caller` wraps one declaration (:class:`udfs.sheet.declare.Plan`) and
 
 * takes positional cell values only (ranges as 2-D lists or arrays);
-* coerces every argument by its declaration (:mod:`udfs.sheet.args`,
-  :mod:`udfs.sheet.coerce`), applying defaults to omitted or empty optional
-  arguments;
+* coerces every argument by its declaration (:mod:`udfs.sheet.coerce`),
+  applying defaults to omitted or empty optional arguments;
 * broadcasts all arguments like numpy (a 1x3 row against a 4x1 column gives a
   4x3 grid; shapes that cannot broadcast give one ``#VALUE!`` naming both);
 * marks bad elements only, calls the core ONCE on the whole arrays with the
@@ -21,53 +19,35 @@ texts in, the core's answer out) into a spreadsheet function that
 A plain-float fast path skips all array work when every argument is a single
 number or text that is valid as it stands.
 
->>> from udfs.core.validate import POSITIVE
->>> @sheet_function("CW_DEMO_DOUBLE", "Twice the mass, g.", [Num("mass_g", "mass, g", POSITIVE)],
-...                 returns="g", register=False)
-... def demo(mass_g):
-...     return 2 * mass_g
->>> demo(1.5), demo([[1.0, -1.0]])
-(3.0, [[2.0, '#NUM! mass_g must be > 0 (got -1)']])
+>>> from udfs.sheet.registry import PLANS
+>>> nernst = Caller(PLANS["CW_NERNST"])
+>>> round(nernst((0.34, 2, 0.1, 1)), 4), nernst((0.34, 2, [[0.1, -1.0]], 1))[0][1]
+(0.3104, '#NUM! ox_activity must be > 0 (got -1)')
 """
 
 from __future__ import annotations
 
-import enum
-import inspect
 import logging
-import os
-import sys
-from collections.abc import Callable, Sequence
-from typing import Any
+from collections.abc import Callable
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from numpy.typing import NDArray
 
 from ..core.errors import CellwrightError, ShapeError
-from .args import Activities, Arg, Num
-from .coerce import Coerced, activities_arg, number_arg, text_arg
-from .error_values import SheetError, from_exception
+from .args import Activities, Kind, Num, Table
+from .coerce import Coerced, activities_arg, number_arg, table_arg, text_arg
+from .error_values import COM_ERROR_MAX, COM_ERROR_MIN, SheetError, from_exception
 
-__all__ = [
-    "FUNCTIONS",
-    "PLANS",
-    "Kind",
-    "Plan",
-    "decorate_for_xlwings",
-    "sheet_function",
-]
+if TYPE_CHECKING:
+    from .declare import Plan
+
+__all__ = ["PER_ELEMENT_LIMIT", "Caller"]
 
 log = logging.getLogger("udfs.sheet")
 
-#: Spreadsheet name -> the callable taking positional cell values (no xlwings objects).
-FUNCTIONS: dict[str, Callable[..., Any]] = {}
-#: Spreadsheet name -> its plan (arguments, help, units), for the reference.
-PLANS: dict[str, Plan] = {}
-
 #: Above this many elements a failing vectorised call is not retried per element.
 PER_ELEMENT_LIMIT = 4096
-HELP_LIMIT = 255
-CATEGORY = "cellwright"
 
 _SLOW = object()
 
@@ -76,13 +56,9 @@ def _accept(x: float) -> bool:
     return True
 
 
-class Kind(enum.Enum):
-    """What a function returns."""
-
-    NUMBER = "number"  # one number per element
-    VALUE = "value"  # one number or text per element
-    COLUMN = "column"  # a list that spills down (no broadcasting)
-    RECORD = "record"  # a fixed row of numbers per element, spilling to the right
+def _com_range(v: int) -> bool:
+    """An integer that may be an error value the add-in passed (see coerce)."""
+    return COM_ERROR_MIN <= v <= COM_ERROR_MAX
 
 
 def _nonfinite() -> SheetError:
@@ -95,88 +71,26 @@ def _shape_text(shape: tuple[int, ...]) -> str:
     return "x".join(str(n) for n in shape)
 
 
-class Plan:
-    """Everything the adapter precomputes about one spreadsheet function."""
+class Caller:
+    """Calls one declared function with cell values (see the module docstring)."""
 
-    def __init__(
-        self,
-        name: str,
-        help: str,
-        args: Sequence[Arg],
-        compute: Callable[..., Any],
-        kind: Kind = Kind.NUMBER,
-        returns: str = "",
-        columns: Sequence[str] = (),
-        example: tuple[Any, ...] | None = None,
-    ):
-        self.name = name
-        self.help = help
-        self.args = tuple(args)
-        self.compute = compute
-        self.kind = kind
-        self.returns = returns
-        self.columns = tuple(columns)
-        self.example = example
-        self._check_declaration()
-        self.n_args = len(self.args)
-        self.n_required = sum(1 for a in self.args if not a.optional)
-        self.text_positions = tuple(i for i, a in enumerate(self.args) if not a.is_number)
-        self.number_positions = tuple(i for i, a in enumerate(self.args) if a.is_number)
+    def __init__(self, plan: Plan):
+        self.plan = plan
+        self.name = plan.name
+        self.args = plan.args
+        self.kind = plan.kind
+        self.columns = plan.columns
+        self.compute: Callable[..., Any] = plan.compute
+        self.n_args = len(plan.args)
+        self.n_required = sum(1 for a in plan.args if not a.optional)
+        # texts that broadcast element by element (a table is one value for all elements)
+        self.text_positions = tuple(
+            i for i, a in enumerate(plan.args) if not a.is_number and not isinstance(a, Table)
+        )
         self._fast_specs = tuple(
             (a.is_number, a.optional, a.default, a.scalar_ok if isinstance(a, Num) else _accept)
-            for a in self.args
+            for a in plan.args
         )
-        self.signature = inspect.Signature(
-            [
-                inspect.Parameter(
-                    a.name,
-                    inspect.Parameter.POSITIONAL_OR_KEYWORD,
-                    default=None if a.optional else inspect.Parameter.empty,
-                )
-                for a in self.args
-            ]
-        )
-
-    # ------------------------------------------------------------------ declaration
-
-    def _check_declaration(self) -> None:
-        if not self.name.startswith("CW_") or not self.name.isidentifier():
-            raise ValueError(f"bad spreadsheet name {self.name!r}")
-        if not self.help or len(self.help) > HELP_LIMIT:
-            raise ValueError(f"{self.name}: help must be 1..{HELP_LIMIT} characters")
-        seen_optional = False
-        for a in self.args:
-            if not a.name.isidentifier() or a.name.startswith("_"):
-                raise ValueError(f"{self.name}: bad argument name {a.name!r}")
-            if seen_optional and not a.optional:
-                raise ValueError(f"{self.name}: required {a.name} after an optional argument")
-            seen_optional = seen_optional or a.optional
-            if len(self.arg_help(a)) > HELP_LIMIT:
-                raise ValueError(f"{self.name}: help of {a.name} longer than {HELP_LIMIT}")
-        if self.kind is Kind.COLUMN and any(a.is_number for a in self.args):
-            raise ValueError(f"{self.name}: a spilled list takes no numeric arguments")
-
-    @property
-    def signature_text(self) -> str:
-        """``CW_X(a, b, [c=1])`` as the reference shows it."""
-        return f"{self.name}({', '.join(a.signature_text for a in self.args)})"
-
-    def arg_help(self, arg: Arg) -> str:
-        """The function wizard's help for one argument: its doc, what is
-        allowed, and the default."""
-        text = arg.doc
-        if isinstance(arg, Num) and arg.domain.allowed != "a finite number":
-            text += f"; {arg.domain.allowed}"
-        if arg.optional:
-            d = arg.default
-            text += (
-                f"; optional, default {d:g}"
-                if isinstance(d, float)
-                else ("; optional" if d == "" else f'; optional, default "{d}"')
-            )
-        return text
-
-    # ------------------------------------------------------------------ calling
 
     def __call__(self, args: tuple[Any, ...]) -> Any:
         try:
@@ -207,7 +121,7 @@ class Plan:
                 if type(v) is not float:
                     if v is None and optional:
                         v = default
-                    elif type(v) is int and -(2**53) <= v <= 2**53:
+                    elif type(v) is int and -(2**53) <= v <= 2**53 and not _com_range(v):
                         v = float(v)
                     else:
                         return _SLOW
@@ -259,6 +173,8 @@ class Plan:
                 out.append(number_arg(v, a))
             elif isinstance(a, Activities):
                 out.append(activities_arg(v, a))
+            elif isinstance(a, Table):
+                out.append(table_arg(v, a))
             else:
                 out.append(text_arg(v, a))
         return out
@@ -293,11 +209,11 @@ class Plan:
             return SheetError(
                 "#VALUE!",
                 f"{self.name} takes at most {self.n_args} arguments, got {n}: "
-                f"{self.signature_text}",
+                f"{self.plan.signature_text}",
             )
         if n < self.n_required:
             missing = ", ".join(a.name for a in self.args[n : self.n_required])
-            return SheetError("#VALUE!", f"{self.name} needs {missing}: {self.signature_text}")
+            return SheetError("#VALUE!", f"{self.name} needs {missing}: {self.plan.signature_text}")
         try:
             coerced = self._coerce(args)
             shape = self._broadcast(coerced)
@@ -526,76 +442,3 @@ def _combine(
             errors[take] = e[take]
             bad |= take
     return bad, errors
-
-
-# ---------------------------------------------------------------------- the decorator
-
-
-def _build_callable(plan: Plan) -> Callable[..., Any]:
-    call = plan.__call__
-
-    def spreadsheet_function(*args: Any) -> Any:
-        return call(args)
-
-    spreadsheet_function.__name__ = plan.name
-    spreadsheet_function.__qualname__ = plan.name
-    spreadsheet_function.__doc__ = plan.help
-    spreadsheet_function.__signature__ = plan.signature  # type: ignore[attr-defined]
-    # no annotations: xlwings would take a return annotation as a result converter
-    spreadsheet_function.__annotations__ = {}
-    spreadsheet_function.__cellwright_plan__ = plan  # type: ignore[attr-defined]
-    return spreadsheet_function
-
-
-def _runtime_decorators() -> tuple[Any, Any, Any] | None:
-    """xlwings' func/arg/ret where they do something (Windows add-in, xlwings
-    Server); elsewhere they are no-ops, so xlwings is not imported at all."""
-    if not (sys.platform.startswith("win") or os.environ.get("XLWINGS_ON_SERVER") == "true"):
-        return None
-    try:
-        import xlwings as xw
-    except ImportError:  # pragma: no cover - xlwings is a dependency
-        return None
-    return xw.func, xw.arg, xw.ret
-
-
-def decorate_for_xlwings(fn: Callable[..., Any], plan: Plan, func: Any, arg: Any, ret: Any) -> Any:
-    """Apply xlwings' UDF decorators: every argument ``ndim=2`` (a range or a
-    cell, always as a 2-D list), cell errors passed in as text (``err_to_str``)
-    so they propagate, ``doc=`` with the unit; results are returned as 2-D lists
-    (dynamic arrays spill them), never with ``expand``."""
-    fn = ret()(fn)
-    for a in reversed(plan.args):
-        fn = arg(a.name, ndim=2, err_to_str=True, doc=plan.arg_help(a))(fn)
-    return func(category=CATEGORY)(fn)
-
-
-def sheet_function(
-    name: str,
-    help: str,
-    args: Sequence[Arg],
-    *,
-    kind: Kind = Kind.NUMBER,
-    returns: str = "",
-    columns: Sequence[str] = (),
-    example: tuple[Any, ...] | None = None,
-    register: bool = True,
-) -> Callable[[Callable[..., Any]], Callable[..., Any]]:
-    """Declare a spreadsheet function; the decorated ``compute`` receives
-    floats or float arrays for :class:`Num` arguments and stripped ``str`` for
-    :class:`Text` arguments, in declaration order, defaults applied."""
-
-    def wrap(compute: Callable[..., Any]) -> Callable[..., Any]:
-        plan = Plan(name, help, args, compute, kind, returns, columns, example)
-        fn = _build_callable(plan)
-        decorators = _runtime_decorators()
-        if decorators is not None:
-            fn = decorate_for_xlwings(fn, plan, *decorators)
-        if register:
-            if name in FUNCTIONS:
-                raise ValueError(f"{name} declared twice")
-            FUNCTIONS[name] = fn
-            PLANS[name] = plan
-        return fn
-
-    return wrap

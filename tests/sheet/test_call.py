@@ -1,18 +1,19 @@
-"""The adapter's rules: coercion, defaults, broadcasting, per-element errors,
-error propagation, output shapes, and that no exception escapes."""
+"""Calling a declared function (udfs.sheet.call): coercion, defaults,
+broadcasting, per-element errors, error propagation, output shapes, and that no
+exception escapes."""
 
 from __future__ import annotations
 
 import logging
 import math
+import pickle
 
 import numpy as np
 import pytest
 
 from udfs.core.errors import DomainError
 from udfs.core.validate import POSITIVE
-from udfs.sheet.adapter import PLANS, Kind, sheet_function
-from udfs.sheet.args import Num, Text
+from udfs.sheet.declare import PLANS, Kind, Num, Section, Text, sheet_function
 from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import FUNCTIONS
 
@@ -139,6 +140,53 @@ def test_incoming_errors_propagate() -> None:
     assert out[0][1].code == "#REF!"
 
 
+def test_newer_errors_keep_their_code_text() -> None:
+    # text forms (xlwings Server, or our own error text from another cell)
+    for code in ("#SPILL!", "#CALC!", "#GETTING_DATA", "#BUSY!", "#FIELD!"):
+        out = NERNST(code, 2, 0.1, 1)
+        assert out == code and out.shown == code and out.code == "#N/A"
+        assert F["CW_MOLAR_MASS"](code) == code
+    mine = SheetError("#SPILL!", "passed on")
+    assert NERNST(0.34, 2, str(mine), 1) == "#SPILL! passed on"
+    out = NERNST(0.34, 2, [[0.1, "#CALC!"]], 1)
+    assert out[0][1] == "#CALC!" and out[0][1].code == "#N/A"
+
+
+def test_error_values_survive_pickling() -> None:  # engines may pass values between processes
+    for err in (SheetError("#SPILL!", "from e0"), SheetError("#NUM!", "x must be > 0")):
+        back = pickle.loads(pickle.dumps(err))
+        assert (back, back.code, back.shown, back.message) == (
+            err,
+            err.code,
+            err.shown,
+            err.message,
+        )
+
+
+def test_error_values_as_com_integers() -> None:
+    # COM's form of #SPILL! (CVErr 2045, Microsoft's XlCVError page): never a number
+    spill = -2146826243
+    for call in (
+        lambda: NERNST(spill, 2, 0.1, 1),  # the scalar fast path
+        lambda: NERNST([[spill]], 2, 0.1, 1),  # a single cell as xlwings passes it
+        lambda: NERNST(np.int64(spill), 2, 0.1, 1),
+        lambda: F["CW_MOLAR_MASS"](spill),  # a text argument
+        lambda: F["CW_GIBBS"](spill, 2),
+    ):
+        out = call()
+        assert isinstance(out, SheetError) and out.shown == "#SPILL!", out
+    grid = NERNST(0.34, 2, [[0.1, spill], [1.0, -2146826281]], 1)
+    assert grid[0][1] == "#SPILL!" and grid[1][1].code == "#DIV/0!"
+    assert grid[0][0] == NERNST(0.34, 2, 0.1, 1)
+    arr = NERNST(0.34, 2, np.array([[1, spill]]), 1)  # an integer array
+    assert arr[0][1] == "#SPILL!" and arr[0][0] == NERNST(0.34, 2, 1, 1)
+    floats = NERNST(0.34, 2, np.array([[0.1, spill]]), 1)  # a float array holds numbers
+    assert "ox_activity must be > 0" in floats[0][1]
+    # a float with the same value is a number (Excel passes numbers as floats)
+    assert "ox_activity must be > 0" in NERNST(0.34, 2, float(spill), 1)
+    assert F["CW_CONVERT"](float(spill), "g", "kg") == pytest.approx(spill / 1000, rel=1e-12)
+
+
 def test_leftmost_error_wins() -> None:
     out = NERNST("#N/A", 0, -1, 1)
     assert out.code == "#N/A"
@@ -218,7 +266,11 @@ def test_core_errors_after_masking_are_localised() -> None:
         return arr * 2
 
     fn = sheet_function(
-        "CW_TEST_PICKY", "Twice x.", [Num("x", "a number", POSITIVE)], register=False
+        "CW_TEST_PICKY",
+        "Twice x.",
+        [Num("x", "a number", POSITIVE)],
+        section=Section.CAPACITY,
+        register=False,
     )(picky)
     out = fn([[1.0, 20.0, 3.0, -1.0]])
     assert out[0][0] == 2.0 and out[0][2] == 6.0
@@ -233,9 +285,13 @@ def test_internal_errors_become_a_value_error_and_are_logged(
     def broken(x: object) -> object:
         return 1 / 0
 
-    fn = sheet_function("CW_TEST_BROKEN", "Nothing.", [Num("x", "a number")], register=False)(
-        broken
-    )
+    fn = sheet_function(
+        "CW_TEST_BROKEN",
+        "Nothing.",
+        [Num("x", "a number")],
+        section=Section.CAPACITY,
+        register=False,
+    )(broken)
     with caplog.at_level(logging.ERROR, logger="udfs.sheet"):
         out = fn(1.0)
         out_range = fn([[1.0, 2.0]])
@@ -249,19 +305,23 @@ def test_fast_and_general_paths_agree() -> None:
         if plan.example is None or plan.kind is Kind.COLUMN:
             continue
         fast = F[name](*plan.example)
-        general = F[name](*[[[a]] for a in plan.example])
+        general = F[name](*[a if isinstance(a, list) else [[a]] for a in plan.example])
         assert fast == general, name
 
 
 def test_declarations_are_checked() -> None:
     with pytest.raises(ValueError):
-        sheet_function("NOT_CW", "x", [], register=False)(lambda: 1.0)
+        sheet_function("NOT_CW", "x", [], section=Section.CAPACITY, register=False)(lambda: 1.0)
     with pytest.raises(ValueError):
-        sheet_function("CW_X", "x" * 256, [], register=False)(lambda: 1.0)
+        sheet_function("CW_X", "x" * 256, [], section=Section.CAPACITY, register=False)(lambda: 1.0)
     with pytest.raises(ValueError):
-        sheet_function("CW_X", "x", [Text("a", "a", default=""), Text("b", "b")], register=False)(
-            lambda a, b: 1.0
-        )
+        sheet_function(
+            "CW_X",
+            "x",
+            [Text("a", "a", default=""), Text("b", "b")],
+            section=Section.CAPACITY,
+            register=False,
+        )(lambda a, b: 1.0)
     with pytest.raises(ValueError):
         Num("x", "x", POSITIVE, default=-1)
 

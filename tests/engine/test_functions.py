@@ -1,4 +1,4 @@
-"""The one adapter between the `formulas` engine and the sheet functions."""
+"""Our spreadsheet functions inside the `formulas` engine: values across the seam, messages."""
 
 from __future__ import annotations
 
@@ -9,20 +9,27 @@ from formulas.functions import Array, get_functions
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Error
 
-from udfs.engine import functions as adapter
-from udfs.engine.functions import SheetFunctionAdapter, from_engine, register, to_engine
+from udfs.engine.functions import (
+    Messages,
+    SheetFunction,
+    ensure_registered,
+    register,
+    registered_names,
+    to_cell,
+    to_engine,
+)
 from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import FUNCTIONS
 
 
 def test_engine_values_become_plain_cell_values():
-    assert from_engine(sh.EMPTY) is None
-    assert from_engine(np.float64(2.5)) == 2.5 and type(from_engine(np.float64(2.5))) is float
-    assert from_engine(np.bool_(True)) is True
-    assert from_engine(np.int64(3)) == 3 and type(from_engine(np.int64(3))) is int
-    err = from_engine(Error.errors["#NUM!"])
+    assert to_cell(sh.EMPTY) is None
+    assert to_cell(np.float64(2.5)) == 2.5 and type(to_cell(np.float64(2.5))) is float
+    assert to_cell(np.bool_(True)) is True
+    assert to_cell(np.int64(3)) == 3.0 and type(to_cell(np.int64(3))) is float  # Excel: doubles
+    err = to_cell(Error.errors["#NUM!"])
     assert isinstance(err, SheetError) and err.code == "#NUM!"
-    assert from_engine("LiFePO4") == "LiFePO4"
+    assert to_cell("LiFePO4") == "LiFePO4"
 
 
 def test_sheet_errors_become_the_engines_own_error_values():
@@ -44,7 +51,7 @@ def test_error_arguments_reach_the_function_as_in_excel():
         calls.append(args)
         return 1.0
 
-    f = SheetFunctionAdapter("CW_TEST_SPY", spy)
+    f = SheetFunction("CW_TEST_SPY", spy)
     assert f(Error.errors["#DIV/0!"], 2.0) == 1.0
     (args,) = calls
     assert isinstance(args[0], SheetError) and args[0].code == "#DIV/0!" and args[1] == 2.0
@@ -68,7 +75,7 @@ def test_the_leftmost_bad_argument_wins_as_with_the_add_in(cells):
         sh.EMPTY if c is None else Error.errors[c.code] if isinstance(c, SheetError) else c
         for c in cells
     ]
-    got = SheetFunctionAdapter("CW_CAPACITY", sheet)(*engine_values)
+    got = SheetFunction("CW_CAPACITY", sheet)(*engine_values)
     assert isinstance(in_excel, SheetError)
     assert got is Error.errors[in_excel.code]
 
@@ -80,11 +87,11 @@ def test_ranges_arrive_as_2d_lists_with_none_for_empty_and_errors_as_elements():
         seen.append(x)
         return 0.0
 
-    f = SheetFunctionAdapter("CW_TEST_GRAB", grab)
+    f = SheetFunction("CW_TEST_GRAB", grab)
     rng = Ranges().push("A1:B2", np.array([[1, sh.EMPTY], [Error.errors["#N/A"], "t"]], object))
     assert f(rng) == 0.0
     (value,) = seen
-    assert value[0] == [1, None]
+    assert value[0] == [1.0, None]
     assert isinstance(value[1][0], SheetError) and value[1][0].code == "#N/A"
     assert value[1][1] == "t"
 
@@ -96,45 +103,59 @@ def test_one_cell_range_and_computed_scalars_arrive_as_scalars():
         seen.append(x)
         return 1.0
 
-    f = SheetFunctionAdapter("CW_TEST_GRAB1", grab)
+    f = SheetFunction("CW_TEST_GRAB1", grab)
     f(Ranges().push("A1", np.array([[np.float64(4.0)]], object)))
     f(np.asarray(5.0, dtype=object).view(Array))
     assert seen == [4.0, 5.0]
     assert all(type(v) is float for v in seen)
 
 
-def test_exceptions_never_escape_and_their_message_is_kept():
+def test_exceptions_never_escape_and_their_message_goes_to_the_cell_being_computed():
     def broken(x):
         raise ZeroDivisionError("boom")
 
-    f = SheetFunctionAdapter("CW_TEST_BROKEN", broken)
-    assert f(1.0) is Error.errors["#VALUE!"]
-    assert any("ZeroDivisionError: boom" in m for m in adapter.messages_for("CW_TEST_BROKEN"))
+    f = SheetFunction("CW_TEST_BROKEN", broken)
+    with Messages.collect() as box:
+        assert f(1.0) is Error.errors["#VALUE!"]
+    assert box.items == [(None, "CW_TEST_BROKEN: #VALUE! internal error ZeroDivisionError: boom")]
 
 
-def test_error_messages_are_remembered_per_function_and_bounded():
-    f = SheetFunctionAdapter("CW_TEST_MSG", lambda x: SheetError("#NUM!", f"x must be > 0 ({x})"))
-    for i in range(adapter.MAX_MESSAGES_PER_FUNCTION + 5):
-        f(float(-i))
-    msgs = adapter.messages_for("CW_TEST_MSG")
-    assert len(msgs) == adapter.MAX_MESSAGES_PER_FUNCTION
-    assert msgs[-1].startswith("#NUM! x must be > 0")
+def test_messages_are_collected_per_call_never_shared():
+    f = SheetFunction("CW_TEST_MSG", lambda x: SheetError("#NUM!", f"x must be > 0 (got {x})"))
+    with Messages.collect() as first:
+        f(-1.0)
+    with Messages.collect() as second:
+        f(-2.0)
+    f(-3.0)  # outside any collector: nothing is kept anywhere
+    assert first.items == [(None, "CW_TEST_MSG: #NUM! x must be > 0 (got -1.0)")]
+    assert second.items == [(None, "CW_TEST_MSG: #NUM! x must be > 0 (got -2.0)")]
 
 
-def test_two_d_results_become_engine_arrays_showing_top_left_in_one_cell():
-    f = SheetFunctionAdapter("CW_TEST_GRID", lambda: [[1.0, SheetError("#N/A")], [3, "x"]])
+def test_array_results_say_which_element_a_message_belongs_to():
+    def double(x):
+        bad = SheetError("#NUM!", "x < 0 (-1.0)")
+        return [[v * 2 if v >= 0 else bad] for row in x for v in row]
+
+    f = SheetFunction("CW_TEST_COL", double)
+    with Messages.collect() as box:
+        out = f(np.array([[1.0], [-1.0], [2.0]], dtype=object))
+    assert out.shape == (3, 1) and out[1, 0] is Error.errors["#NUM!"]
+    assert box.items == [(1, "CW_TEST_COL: #NUM! x < 0 (-1.0)")]
+
+
+def test_two_d_results_become_engine_arrays():
+    f = SheetFunction("CW_TEST_GRID", lambda: [[1.0, SheetError("#N/A")], [3, "x"]])
     out = f()
     assert isinstance(out, Array) and out.shape == (2, 2)
     assert out[0, 1] is Error.errors["#N/A"]
-    assert out.reshape((1, 1))[0, 0] == 1.0  # a one-cell formula shows the first value
-    assert SheetFunctionAdapter("CW_TEST_ONE", lambda: [[7.0]])() == 7.0
-    assert SheetFunctionAdapter("CW_TEST_ROW", lambda: [1.0, 2.0])().shape == (1, 2)
+    assert SheetFunction("CW_TEST_ONE", lambda: [[7.0]])() == 7.0
+    assert SheetFunction("CW_TEST_ROW", lambda: [1.0, 2.0])().shape == (1, 2)
 
 
 def test_unsupported_results_are_value_errors():
-    assert SheetFunctionAdapter("CW_TEST_DICT", lambda: {"a": 1})() is Error.errors["#VALUE!"]
-    assert SheetFunctionAdapter("CW_TEST_3D", lambda: [[[1]]])() is Error.errors["#VALUE!"]
-    assert SheetFunctionAdapter("CW_TEST_NONE", lambda: None)() is sh.EMPTY
+    assert SheetFunction("CW_TEST_DICT", lambda: {"a": 1})() is Error.errors["#VALUE!"]
+    assert SheetFunction("CW_TEST_3D", lambda: [[[1]]])() is Error.errors["#VALUE!"]
+    assert SheetFunction("CW_TEST_NONE", lambda: None)() is sh.EMPTY
 
 
 def test_register_adds_the_name_and_the_excel_udf_alias_once():
@@ -143,20 +164,17 @@ def test_register_adds_the_name_and_the_excel_udf_alias_once():
 
     gen0 = register({"cw_test_alias": f})
     table = get_functions()
-    assert isinstance(table["CW_TEST_ALIAS"], SheetFunctionAdapter)
+    assert isinstance(table["CW_TEST_ALIAS"], SheetFunction)
     assert table["_XLUDF.CW_TEST_ALIAS"] is table["CW_TEST_ALIAS"]
     assert register({"CW_TEST_ALIAS": f}) == gen0  # unchanged: same generation
     assert register({"CW_TEST_ALIAS": lambda x: x}) == gen0 + 1
 
 
-def test_real_registry_is_registered_when_present():
-    funcs = adapter.sheet_functions()
-    if not funcs:
-        pytest.skip("udfs.sheet.registry not available yet")
-    adapter.ensure_registered()
+def test_the_real_registry_is_registered():
+    ensure_registered()
     table = get_functions()
-    assert set(funcs) <= set(adapter.registered_names())
-    name = sorted(funcs)[0]
-    assert table[name].func is funcs[name]
-    if "CW_MOLAR_MASS" in funcs:  # the adapter returns what a direct call returns
-        assert table["CW_MOLAR_MASS"]("H2O") == funcs["CW_MOLAR_MASS"]("H2O")
+    assert set(FUNCTIONS) <= set(registered_names())
+    for name in FUNCTIONS:
+        assert table[name].func is FUNCTIONS[name]
+    # the engine's callable returns what a direct call returns
+    assert table["CW_MOLAR_MASS"]("H2O") == FUNCTIONS["CW_MOLAR_MASS"]("H2O")

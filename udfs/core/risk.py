@@ -1,0 +1,417 @@
+"""Ranges, a seeded Monte Carlo and the tornado, for any vectorised model.
+
+An uncertain input is given as low, likely and high. The default distribution
+is **triangular** on [low, high] with its mode at likely: its ends are the
+values the user wrote (nothing beyond them, nothing unreachable inside), it
+keeps more weight in the tails than PERT (a more cautious spread for cost
+work), its percentiles have a closed form, and it is sampled by its exact
+inverse distribution function (a square root, correctly rounded), so a run gives
+the same bits on any machine with the same numpy. ``"pert"`` (a beta
+distribution with shape 4 around likely, mean (low + 4 likely + high) / 6,
+drawn by numpy's beta generator, whose last digits may differ between
+processor types) and ``"uniform"`` (likely ignored) are available per input.
+
+Reproducibility: the samples of input ``x`` at positions ``[b*BLOCK,
+(b+1)*BLOCK)`` come from their own generator, seeded by ``(seed, b, x)``. So a
+run's numbers depend only on the seed, the sample count and the ranges: not on
+the chunk size, the order of the inputs, the runner (numpy here, Dask in
+:mod:`udfs.app.cluster`) or on which other inputs vary. Memory stays bounded
+by the chunk size, except the outputs asked for (8 bytes per sample each),
+which the percentiles need.
+
+A model is anything with ``base()`` (every input at its base value),
+``check(name, value)`` (the input's own validation) and ``__call__(values)``
+(vectorised outputs for a mapping of some inputs; the rest at base), such as
+:class:`udfs.core.cell_cost.CostModel`.
+
+>>> class Line:
+...     def base(self): return {"price": 10.0}
+...     def check(self, name, value): return np.asarray(value, dtype=float)
+...     def __call__(self, v): return {"cost": 2.0 + 3.0 * v.get("price", 10.0)}
+>>> mc = monte_carlo(Line(), {"price": Range(8.0, 8.0, 12.0, "uniform")}, 100_000, seed=1)
+>>> round(mc.summary["cost"].percentiles[50], 1)   # 2 + 3 * 10
+32.0
+>>> t = tornado(Line(), {"price": (8.0, 10.0, 12.0)}, "cost")
+>>> t.bars[0].low_output, t.bars[0].high_output
+(26.0, 38.0)
+"""
+
+from __future__ import annotations
+
+import hashlib
+import itertools
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any, Protocol
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .errors import DomainError, InputError, NotFoundError
+from .names import closest
+from .validate import ANY, POSITIVE_INTEGER, Domain, check
+
+__all__ = [
+    "BLOCK",
+    "DISTRIBUTIONS",
+    "SLICE",
+    "ChunkTask",
+    "Model",
+    "MonteCarlo",
+    "Range",
+    "Runner",
+    "Summary",
+    "Tornado",
+    "TornadoBar",
+    "make_range",
+    "monte_carlo",
+    "plan_chunks",
+    "run_chunk",
+    "serial_runner",
+    "thread_runner",
+    "tornado",
+]
+
+Array = NDArray[np.float64]
+
+#: Samples per seeded block (the unit of reproducibility; chunks are whole blocks).
+BLOCK = 65_536
+#: Samples per model call inside a block: arrays of 64 KiB stay in the processor's
+#: cache and below glibc's 128 KiB threshold for allocating by mmap (a Dask worker
+#: sets MALLOC_TRIM_THRESHOLD_, which fixes that threshold; with 128 KiB arrays every
+#: temporary was mapped and unmapped and the chunks ran several times slower there).
+SLICE = 8_192
+DISTRIBUTIONS = ("triangular", "pert", "uniform")
+_MAX_SAMPLES = 10**10
+_PERT_SHAPE = 4.0
+_FINITE = ANY
+_PERCENT = Domain(lower=0, upper=100, note="(percent)")
+
+
+class Model(Protocol):
+    def base(self) -> Mapping[str, Any]: ...
+
+    def check(self, name: str, value: ArrayLike) -> Any: ...
+
+    def __call__(self, values: Mapping[str, Any]) -> Mapping[str, Any]: ...
+
+
+@dataclass(frozen=True)
+class Range:
+    """low <= likely <= high and a distribution (see the module docstring).
+
+    >>> Range(0.0, 1.0, 4.0).mean, Range(0.0, 1.0, 4.0).percentile(50)
+    (1.6666666666666667, 1.5505102572168221)
+    """
+
+    low: float
+    likely: float
+    high: float
+    distribution: str = "triangular"
+
+    @property
+    def mean(self) -> float:
+        a, c, b = self.low, self.likely, self.high
+        if self.distribution == "uniform":
+            return (a + b) / 2.0
+        if self.distribution == "pert":
+            return (a + _PERT_SHAPE * c + b) / (_PERT_SHAPE + 2.0)
+        return (a + c + b) / 3.0
+
+    def quantile(self, u: Any) -> Any:
+        """Inverse distribution function (triangular and uniform), element-wise."""
+        a, c, b = self.low, self.likely, self.high
+        if self.distribution == "uniform":
+            return a + u * (b - a)
+        if self.distribution != "triangular":
+            raise InputError("distribution", self.distribution,
+                             detail="PERT has no closed-form quantile here; sample it")
+        if b == a:
+            return a + 0.0 * u
+        fc = (c - a) / (b - a)
+        left = a + np.sqrt(u * ((b - a) * (c - a)))
+        right = b - np.sqrt((1.0 - u) * ((b - a) * (b - c)))
+        return np.where(u < fc, left, right)
+
+    def percentile(self, p: float) -> float:
+        """The closed-form ``p``-th percentile (triangular and uniform)."""
+        return float(self.quantile(np.float64(p / 100.0)))
+
+    def sample(self, rng: np.random.Generator, n: int) -> Array:
+        """``n`` draws (inverse transform of uniforms; PERT through a beta draw)."""
+        if self.distribution == "pert":
+            a, c, b = self.low, self.likely, self.high
+            if b == a:
+                return np.full(n, a)
+            alpha = 1.0 + _PERT_SHAPE * (c - a) / (b - a)
+            beta = 1.0 + _PERT_SHAPE * (b - c) / (b - a)
+            return a + rng.beta(alpha, beta, n) * (b - a)
+        return np.asarray(self.quantile(rng.random(n)), dtype=float)
+
+
+def make_range(name: str, value: object) -> Range:
+    """A checked :class:`Range` from a Range or ``(low, likely, high[, distribution])``
+    (for ``uniform``, likely may be None).
+
+    >>> make_range("price", (5, 4, 6))
+    Traceback (most recent call last):
+    ...
+    udfs.core.errors.DomainError: price: low <= likely <= high is needed (got 5, 4, 6)
+    """
+    if isinstance(value, Range):
+        parts: tuple[Any, ...] = (value.low, value.likely, value.high, value.distribution)
+    elif isinstance(value, (tuple, list)) and len(value) in (3, 4):
+        parts = (*value, "triangular") if len(value) == 3 else tuple(value)
+    else:
+        raise InputError(name, value, "a range (low, likely, high[, distribution])")
+    low, likely, high, dist = parts
+    if not isinstance(dist, str) or dist.strip().lower() not in DISTRIBUTIONS:
+        raise NotFoundError(name, dist, f"distribution ({', '.join(DISTRIBUTIONS)})",
+                            closest(str(dist), DISTRIBUTIONS))
+    dist = dist.strip().lower()
+    if likely is None and dist == "uniform":
+        likely = (float(check(f"{name} low", low, _FINITE))
+                  + float(check(f"{name} high", high, _FINITE))) / 2.0
+    a = float(check(f"{name} low", low, _FINITE))
+    c = float(check(f"{name} likely", likely, _FINITE))
+    b = float(check(f"{name} high", high, _FINITE))
+    if not a <= c <= b:
+        raise DomainError(name, None, detail=f"low <= likely <= high is needed (got {a:g}, "
+                          f"{c:g}, {b:g})")
+    return Range(a, c, b, dist)
+
+
+def _checked_ranges(model: Model, ranges: Mapping[str, object]) -> tuple[tuple[str, Range], ...]:
+    if not isinstance(ranges, Mapping) or not ranges:
+        raise InputError("ranges", ranges, "a mapping input name -> (low, likely, high)")
+    out = []
+    for name, raw in ranges.items():
+        r = make_range(str(name), raw)
+        model.check(str(name), np.array([r.low, r.likely, r.high]))
+        out.append((str(name), r))
+    return tuple(sorted(out))
+
+
+def _name_key(name: str) -> int:
+    return int.from_bytes(hashlib.sha256(name.encode("utf-8")).digest()[:8], "little")
+
+
+@dataclass(frozen=True)
+class ChunkTask:
+    """Samples ``[start, stop)`` of a run (start a multiple of :data:`BLOCK`)."""
+
+    model: Any
+    ranges: tuple[tuple[str, Range], ...]
+    outputs: tuple[str, ...]
+    seed: int
+    start: int
+    stop: int
+
+
+def run_chunk(task: ChunkTask) -> dict[str, Array]:
+    """Draw the chunk's samples (each block of :data:`BLOCK` from generators
+    seeded by ``(seed, block, input)``) and run the model on them, a slice of
+    :data:`SLICE` samples at a time (cache-sized arrays: several times faster
+    than whole blocks; the model is element-wise, so the numbers are the same)."""
+    n = task.stop - task.start
+    out = {k: np.empty(n) for k in task.outputs}
+    keys = [(name, r, _name_key(name)) for name, r in task.ranges]
+    for b in range(task.start // BLOCK, (task.stop - 1) // BLOCK + 1):
+        lo, hi = max(b * BLOCK, task.start), min((b + 1) * BLOCK, task.stop)
+        gens = [(name, r, np.random.default_rng(np.random.SeedSequence(task.seed,
+                                                                       spawn_key=(b, key))))
+                for name, r, key in keys]
+        for s in range(lo, hi, SLICE):
+            e = min(s + SLICE, hi)
+            values = {name: r.sample(g, e - s) for name, r, g in gens}
+            res = task.model(values)
+            for k in task.outputs:
+                out[k][s - task.start:e - task.start] = res[k]
+    return out
+
+
+#: A runner maps ``fn`` over ``tasks`` and yields ``(task index, result)`` in any order.
+Runner = Callable[[Callable[[ChunkTask], dict[str, Array]], Sequence[ChunkTask]],
+                  Iterable[tuple[int, dict[str, Array]]]]
+
+
+def serial_runner(fn: Callable[[ChunkTask], dict[str, Array]], tasks: Sequence[ChunkTask]
+                  ) -> Iterable[tuple[int, dict[str, Array]]]:
+    """Run the chunks one after the other in this process (numpy)."""
+    for i, t in enumerate(tasks):
+        yield i, fn(t)
+
+
+def thread_runner(threads: int = 2) -> Runner:
+    """A runner that runs chunks on ``threads`` threads of this process (numpy
+    releases the interpreter lock in its array loops, so the cores share the
+    work); at most two chunks per thread are in flight.
+
+    >>> r = thread_runner(2)
+    >>> sorted(i for i, _ in r(lambda t: t, ["a", "b", "c"]))
+    [0, 1, 2]
+    """
+    count = int(check("threads", threads, POSITIVE_INTEGER))
+
+    def run(fn: Callable[[ChunkTask], dict[str, Array]], tasks: Sequence[ChunkTask]
+            ) -> Iterable[tuple[int, dict[str, Array]]]:
+        from concurrent.futures import FIRST_COMPLETED, ThreadPoolExecutor, wait
+
+        with ThreadPoolExecutor(max_workers=count) as pool:
+            todo = iter(enumerate(tasks))
+            running = {}
+            for i, t in itertools.islice(todo, 2 * count):
+                running[pool.submit(fn, t)] = i
+            while running:
+                done, _ = wait(running, return_when=FIRST_COMPLETED)
+                for f in done:
+                    i = running.pop(f)
+                    for j, t in itertools.islice(todo, 1):
+                        running[pool.submit(fn, t)] = j
+                    yield i, f.result()
+
+    return run
+
+
+def plan_chunks(n: int, chunk_size: int) -> list[tuple[int, int]]:
+    """``(start, stop)`` of each chunk (chunk_size a multiple of BLOCK)."""
+    return [(s, min(s + chunk_size, n)) for s in range(0, n, chunk_size)]
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Percentiles, mean, spread and histogram of one output."""
+
+    name: str
+    percentiles: Mapping[float, float]
+    mean: float
+    std: float
+    minimum: float
+    maximum: float
+    counts: Array
+    edges: Array
+
+
+@dataclass(frozen=True)
+class MonteCarlo:
+    """A Monte Carlo run: its settings, a :class:`Summary` per output, the
+    output samples (in sample order) and the model's ``meta`` (price book,
+    caution)."""
+
+    n: int
+    seed: int
+    ranges: tuple[tuple[str, Range], ...]
+    summary: Mapping[str, Summary]
+    samples: Mapping[str, Array]
+    meta: Mapping[str, str] = field(default_factory=dict)
+
+
+def _probe_outputs(model: Model, ranges: tuple[tuple[str, Range], ...]) -> list[str]:
+    out = model({name: np.array([r.likely]) for name, r in ranges})
+    return list(out)
+
+
+def monte_carlo(
+    model: Model,
+    ranges: Mapping[str, object],
+    n: int,
+    seed: int,
+    outputs: Sequence[str] | str | None = None,
+    percentiles: Sequence[float] = (10.0, 50.0, 90.0),
+    bins: int = 40,
+    chunk_size: int = BLOCK,
+    runner: Runner | None = None,
+) -> MonteCarlo:
+    """Sample ``ranges`` ``n`` times (seeded) through ``model`` and summarise
+    ``outputs`` (default: the model's first output, the full cost per kWh
+    for a :class:`~udfs.core.cell_cost.CostModel`). ``runner`` runs the chunks
+    (default: in this process).
+
+    The same ``seed``, ``n`` and ranges give the same numbers, whatever the
+    runner and ``chunk_size`` (a multiple of :data:`BLOCK`)."""
+    checked = _checked_ranges(model, ranges)
+    count = int(check("n", n, POSITIVE_INTEGER))
+    if count > _MAX_SAMPLES:
+        raise DomainError("n", count, f"<= {_MAX_SAMPLES:g}")
+    if not isinstance(seed, (int, np.integer)) or isinstance(seed, bool) or seed < 0:
+        raise InputError("seed", seed, "a whole number >= 0")
+    size = int(check("chunk_size", chunk_size, POSITIVE_INTEGER))
+    if size % BLOCK:
+        raise DomainError("chunk_size", size, f"a multiple of {BLOCK}")
+    known = _probe_outputs(model, checked)
+    if outputs is None:
+        outputs = known[:1]
+    wanted = [outputs] if isinstance(outputs, str) else list(outputs)
+    for name in wanted:
+        if name not in known:
+            raise NotFoundError("outputs", name, "output of the model", closest(name, known))
+    pcts = [float(check("percentiles", p, _PERCENT)) for p in percentiles]
+    nbins = int(check("bins", bins, POSITIVE_INTEGER))
+    tasks = [ChunkTask(model, checked, tuple(wanted), int(seed), s, e)
+             for s, e in plan_chunks(count, size)]
+    samples = {k: np.empty(count) for k in wanted}
+    for i, res in (runner or serial_runner)(run_chunk, tasks):
+        t = tasks[i]
+        for k in wanted:
+            samples[k][t.start:t.stop] = res[k]
+    summary = {}
+    for k, x in samples.items():
+        q = np.percentile(x, pcts)
+        counts, edges = np.histogram(x, bins=nbins)
+        summary[k] = Summary(k, dict(zip(pcts, (float(v) for v in q), strict=True)),
+                             float(x.mean()), float(x.std()), float(x.min()), float(x.max()),
+                             counts, edges)
+    meta_fn = getattr(model, "meta", None)
+    meta = dict(meta_fn()) if callable(meta_fn) else {}
+    return MonteCarlo(count, int(seed), checked, summary, samples, meta)
+
+
+# --------------------------------------------------------------------------- tornado
+
+
+@dataclass(frozen=True)
+class TornadoBar:
+    """One input swung alone from low to high (the others at likely)."""
+
+    name: str
+    low: float
+    high: float
+    low_output: float
+    high_output: float
+
+    @property
+    def swing(self) -> float:
+        return abs(self.high_output - self.low_output)
+
+
+@dataclass(frozen=True)
+class Tornado:
+    """Bars ranked by swing, largest first, around ``base`` (all at likely)."""
+
+    output: str
+    base: float
+    bars: tuple[TornadoBar, ...]
+    meta: Mapping[str, str] = field(default_factory=dict)
+
+
+def tornado(model: Model, ranges: Mapping[str, object], output: str = "full_USD_kWh"
+            ) -> Tornado:
+    """Swing each input alone from low to high, the others at likely, in one
+    vectorised call; rank by the swing of ``output``."""
+    checked = _checked_ranges(model, ranges)
+    k = len(checked)
+    values = {}
+    for j, (name, r) in enumerate(checked):
+        col = np.full(2 * k + 1, r.likely)
+        col[2 * j], col[2 * j + 1] = r.low, r.high
+        values[name] = col
+    out = model(values)
+    if output not in out:
+        raise NotFoundError("output", output, "output of the model", closest(output, list(out)))
+    y = np.broadcast_to(np.asarray(out[output], dtype=float), (2 * k + 1,))
+    bars = [TornadoBar(name, r.low, r.high, float(y[2 * j]), float(y[2 * j + 1]))
+            for j, (name, r) in enumerate(checked)]
+    bars.sort(key=lambda b: (-b.swing, b.name))
+    meta_fn = getattr(model, "meta", None)
+    return Tornado(output, float(y[-1]), tuple(bars),
+                   dict(meta_fn()) if callable(meta_fn) else {})

@@ -1,0 +1,421 @@
+"""Evaluate a :class:`~udfs.engine.plan.Plan`: cold, warm (changed inputs) and for sweeps.
+
+Units run in depth order; units of one depth that share a structure run as one
+stacked call when every varying input is a single cell and every step on them
+works element by element (:meth:`udfs.engine.program.Program.elementwise`),
+otherwise cell by cell with the same program. A warm run copies the default
+values and recomputes only the units downstream of the changed cells (and, for
+a sweep, upstream of the wanted outputs); OFFSET and INDIRECT cells are always
+recomputed and compute the cells they point at on demand.
+
+Each cell's error message is its own: the evaluator opens a message collector
+around each call and keeps a message for a cell whose value is an error of the
+same code.
+
+>>> import io, openpyxl
+>>> from udfs.xlsx.reader import read_workbook
+>>> from udfs.engine.functions import ensure_registered
+>>> _ = ensure_registered()
+>>> wb = openpyxl.Workbook(); ws = wb.active
+>>> ws["A1"] = 2; ws["A2"] = "=A1*21"
+>>> buf = io.BytesIO(); wb.save(buf)
+>>> ev = Evaluator(Plan(read_workbook(buf.getvalue(), "x.xlsx"), lambda n: True))
+>>> ev.default().values[(0, 2, 1)], ev.run({(0, 1, 1): 3.0}).values[(0, 2, 1)]
+(42.0, 63.0)
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import schedula as sh
+from formulas.ranges import Ranges
+from formulas.tokens.operand import XlError
+
+from udfs.sheet.error_values import SheetError
+from udfs.xlsx.formula_text import TokenizeError
+from udfs.xlsx.refs import MAX_COL, MAX_ROW, col_letters
+
+from .deviations import reading
+from .functions import Messages, error_value
+from .plan import CellIndex, Key, Plan, Unit
+from .program import Program, ProgramError, program
+
+__all__ = ["Evaluator", "Result"]
+
+_EMPTY = sh.EMPTY
+_CODE = re.compile(r"^(?:[\w.]+: )?(#[A-Z0-9/!?_]+)")
+_ALIAS = re.compile(r"^S([0-9]+)$")
+
+
+@dataclass
+class Result:
+    """Cell values (engine values by key) and error messages of one evaluation."""
+
+    values: dict[Key, Any]
+    messages: dict[Key, str] = field(default_factory=dict)
+
+
+def engine_value(value: Any) -> Any:
+    """A plain cell value (constants, cached values) as the engine stores it."""
+    if value is None:
+        return _EMPTY
+    if isinstance(value, SheetError):
+        return error_value(value.code)
+    return value
+
+
+def _settle(value: Any) -> Any:
+    """A formula's result as one cell's stored value."""
+    if isinstance(value, np.ndarray):
+        if value.size == 0:
+            return error_value("#VALUE!")
+        value = value.reshape(-1)[0]
+    if isinstance(value, Ranges):
+        return _settle(value.value)
+    if value is _EMPTY or value is None:
+        return 0.0
+    if isinstance(value, np.generic):
+        return value.item()
+    return value
+
+
+class _Run:
+    """The state of one evaluation (values, range cache, what is still to compute)."""
+
+    def __init__(self, ev: Evaluator, values: dict[Key, Any], todo: set[int]):
+        self.ev = ev
+        self.values = values
+        self.messages: dict[Key, str] = {}
+        self.pending = set(todo)
+        self.active: set[int] = set()
+        self.ranges: dict[tuple[int, int, int, int, int], np.ndarray] = {}
+        self.sheet = 0  # sheet of the cell being computed (INDIRECT without a sheet)
+        self.cell = (1, 1)
+
+    # --------------------------------------------------------------- reading
+    def block(self, sheet: int, r1: int, c1: int, r2: int, c2: int) -> np.ndarray:
+        key = (sheet, r1, c1, r2, c2)
+        got = self.ranges.get(key)
+        if got is None:
+            get = self.values.get
+            got = np.empty((r2 - r1 + 1, c2 - c1 + 1), dtype=object)
+            for i, r in enumerate(range(r1, r2 + 1)):
+                got[i, :] = [get((sheet, r, c), _EMPTY) for c in range(c1, c2 + 1)]
+            self.ranges[key] = got
+        return got
+
+    def area(self, sheet: str, r1: int, c1: int, r2: int, c2: int) -> Ranges | None:
+        """OFFSET/INDIRECT: the cells of an area, computing pending units there first."""
+        m = _ALIAS.match(sheet)
+        if m is None or min(r1, c1) < 1 or r2 > MAX_ROW or c2 > MAX_COL:
+            return None
+        s = int(m.group(1))
+        if (r2 - r1 + 1) * (c2 - c1 + 1) > self.ev.max_dynamic_cells:
+            return None
+        for i in set(self.ev.plan_index.find((s, r1, c1, r2, c2))):
+            if i in self.active:
+                return None  # it would read itself: a circular reference
+            if i in self.pending:
+                self.ev.run_units([self.ev.plan.units[i]], self)
+        return _ranges(s, r1, c1, r2, c2, self.block(s, r1, c1, r2, c2))
+
+    def parse(self, text: str) -> tuple[str, int, int, int, int] | None:
+        """INDIRECT: an A1-style reference or a defined name, seen from the current cell."""
+        ctx = self.ev.plan.context
+        try:
+            s = ctx.structure("=" + text.strip(), *self.cell, self.sheet)
+        except TokenizeError:
+            return None
+        if s.text != "=_R0" or len(s.refs) != 1 or s.problem:
+            return None
+        a = s.refs[0].area
+        return (f"S{s.refs[0].sheet}", a.r1, a.c1, a.r2, a.c2)
+
+
+def _ranges(sheet: int, r1: int, c1: int, r2: int, c2: int, value: np.ndarray) -> Ranges:
+    a = f"{col_letters(c1)}{r1}"
+    b = f"{col_letters(c2)}{r2}"
+    return Ranges().push(f"S{sheet}!{a}:{b}" if (r1, c1) != (r2, c2) else f"S{sheet}!{a}", value)
+
+
+class Evaluator:
+    """Runs a plan; :meth:`default`, :meth:`run` (warm) and :meth:`scenario` (sweeps)."""
+
+    max_dynamic_cells = 1_000_000
+
+    def __init__(
+        self,
+        plan: Plan,
+        elementwise: Callable[[str], bool] = lambda name: False,
+    ):
+        self.plan = plan
+        self.elementwise = elementwise
+        self.plan_index = CellIndex()
+        for u in plan.units:
+            self.plan_index.add(u)
+        self.programs: dict[str, Program] = {}
+        for u in plan.units:
+            if u.problem is None and u.structure.text not in self.programs:
+                self.programs[u.structure.text] = program(u.structure.text)
+        self.volatile = plan.downstream(u.index for u in plan.units if u.structure.dynamic)
+        self._base: dict[Key, Any] = {}
+        for sheet in plan.book.sheets:
+            for (r, c), v in sheet.values.items():
+                self._base[(sheet.index, r, c)] = engine_value(v)
+        for u in plan.units:
+            if u.problem is not None:
+                for key in u.cell_keys():
+                    fc = plan.book.sheets[u.sheet].formulas.get(key[1:])
+                    if fc is not None:
+                        self._base[key] = engine_value(fc.cached)
+        self._default: Result | None = None
+        self._readers: dict[Key, set[int]] | None = None
+        self._wide: list[tuple[tuple[int, int, int, int, int], int]] = []
+        self._affected: dict[tuple[tuple[Key, ...], tuple[Key, ...] | None], list[list[Unit]]] = {}
+
+    # ------------------------------------------------------------------ public
+    def default(self) -> Result:
+        """Every formula cell evaluated with the workbook's own inputs (cached)."""
+        if self._default is None:
+            run = _Run(self, dict(self._base), {u.index for u in self.plan.units})
+            self.run_units(self.plan.units, run)
+            self._default = Result(run.values, run.messages)
+        return self._default
+
+    def run(self, changes: Mapping[Key, Any], outputs: Sequence[Key] | None = None) -> Result:
+        """Values after setting ``changes`` (engine values by key); only what they reach
+        (and what ``outputs`` need, when given) is recomputed."""
+        base = self.default()
+        groups = self._groups(tuple(changes), None if outputs is None else tuple(outputs))
+        values = dict(base.values)
+        values.update(changes)
+        run = _Run(self, values, {u.index for g in groups for u in g})
+        run.messages = dict(base.messages)
+        for key in changes:
+            run.messages.pop(key, None)
+        for group in groups:
+            self._run_group([u for u in group if u.index in run.pending], run)
+        return Result(run.values, run.messages)
+
+    def scenario(
+        self, inputs: Sequence[Key], outputs: Sequence[Key]
+    ) -> Callable[[Sequence[Any]], list[Any]]:
+        """A function of the ``inputs``' engine values giving the ``outputs``' values."""
+        self.default()
+        keys = tuple(inputs)
+
+        def run(values: Sequence[Any]) -> list[Any]:
+            res = self.run(dict(zip(keys, values, strict=True)), outputs)
+            return [res.values.get(k, _EMPTY) for k in outputs]
+
+        return run
+
+    # ------------------------------------------------------------------ running
+    def _groups(
+        self, changed: tuple[Key, ...], outputs: tuple[Key, ...] | None
+    ) -> list[list[Unit]]:
+        key = (changed, outputs)
+        found = self._affected.get(key)
+        if found is None:
+            start = set(self.volatile)
+            for k in changed:
+                start |= self._reading(k)
+            todo = self.plan.downstream(start)
+            if outputs is not None:
+                owners = {self.plan.owner[k] for k in outputs if k in self.plan.owner}
+                todo &= self.plan.upstream(owners)
+            found = self.plan.schedule(todo)
+            if len(self._affected) > 256:
+                self._affected.clear()
+            self._affected[key] = found
+        return found
+
+    def _reading(self, key: Key) -> set[int]:
+        """Units with a reference covering the cell ``key``."""
+        if self._readers is None:
+            table: dict[Key, set[int]] = {}
+            for u in self.plan.units:
+                for slot in u.structure.refs:
+                    rect = u.reach(slot) if slot.kind == "ref" else None
+                    if rect is None:
+                        continue
+                    s, r1, c1, r2, c2 = rect
+                    if (r2 - r1 + 1) * (c2 - c1 + 1) <= 64:
+                        for r in range(r1, r2 + 1):
+                            for c in range(c1, c2 + 1):
+                                table.setdefault((s, r, c), set()).add(u.index)
+                    else:
+                        self._wide.append((rect, u.index))
+            self._readers = table
+        out = set(self._readers.get(key, ()))
+        s, r, c = key
+        for (ws, r1, c1, r2, c2), i in self._wide:
+            if ws == s and r1 <= r <= r2 and c1 <= c <= c2:
+                out.add(i)
+        return out
+
+    def run_units(self, units: Iterable[Unit], run: _Run) -> None:
+        """Compute ``units`` (and, on demand, what OFFSET/INDIRECT need) into ``run``."""
+        with reading(run):
+            for group in self.plan.schedule(u.index for u in units):
+                self._run_group([u for u in group if u.index in run.pending], run)
+
+    def _run_group(self, units: list[Unit], run: _Run) -> None:
+        if not units:
+            return
+        for u in units:
+            run.pending.discard(u.index)
+        live = [u for u in units if u.problem is None]
+        if not live:
+            return
+        run.active.update(u.index for u in live)
+        try:
+            with reading(run):
+                prog = self.programs[live[0].structure.text]
+                cells = [(u, cell) for u in live for cell in u.cells]
+                if len(cells) == 1 or not self._stacked(prog, cells, run):
+                    for u, cell in cells:
+                        self._one(prog, u, cell, run)
+        finally:
+            run.active.difference_update(u.index for u in live)
+
+    def _args(self, prog: Program, u: Unit, cell: tuple[int, int], run: _Run) -> list[Any]:
+        s = u.structure
+        out: list[Any] = []
+        slots = {r.name: r for r in s.refs}
+        consts = dict(s.consts)
+        for name in prog.inputs:
+            slot = slots.get(name)
+            if slot is None:
+                out.append(consts[name] if name in consts else error_value("#NAME?"))
+                continue
+            area = u.area(slot, cell)
+            if area is None:
+                out.append(error_value("#REF!"))
+                continue
+            if slot.kind != "ref":
+                out.append(_ranges(slot.sheet, area.r1, area.c1, area.r2, area.c2,
+                                   np.full((1, 1), _EMPTY, dtype=object)))
+                continue
+            single = area.r1 == area.r2 and area.c1 == area.c2
+            if single and not s.references:
+                out.append(run.values.get((slot.sheet, area.r1, area.c1), _EMPTY))
+                continue
+            block = run.block(slot.sheet, area.r1, area.c1, area.r2, area.c2)
+            if s.references:
+                out.append(_ranges(slot.sheet, area.r1, area.c1, area.r2, area.c2, block))
+            else:
+                out.append(block)
+        return out
+
+    def _one(self, prog: Program, u: Unit, cell: tuple[int, int], run: _Run) -> None:
+        run.sheet, run.cell = u.sheet, cell
+        with Messages.collect() as box:
+            try:
+                result = prog.run(self._args(prog, u, cell, run))
+            except Exception as exc:  # a function of the package raised: the cell is #VALUE!
+                result = error_value("#VALUE!")
+                box.items.append((None, f"#VALUE! {type(exc).__name__} while computing"))
+        if u.span is not None:
+            self._fill(u, result, run, box)
+            return
+        key = (u.sheet, cell[0], cell[1])
+        value = _settle(result)
+        run.values[key] = value
+        self._message(key, value, box.items, None, run)
+
+    def _fill(self, u: Unit, result: Any, run: _Run, box: Messages) -> None:
+        """An array formula's result over its range (#N/A where the result is smaller)."""
+        assert u.span is not None
+        r1, c1, r2, c2 = u.span
+        arr = result.value if isinstance(result, Ranges) else result
+        grid = np.asarray(arr, dtype=object)
+        if grid.ndim < 2:
+            grid = grid.reshape(1, -1) if grid.ndim == 1 else grid.reshape(1, 1)
+        rows, cols = grid.shape
+        for r in range(r1, r2 + 1):
+            for c in range(c1, c2 + 1):
+                i = 0 if rows == 1 else r - r1
+                j = 0 if cols == 1 else c - c1
+                key = (u.sheet, r, c)
+                value = _settle(grid[i, j]) if i < rows and j < cols else error_value("#N/A")
+                run.values[key] = value
+                self._message(key, value, box.items, None, run)
+
+    def _stacked(self, prog: Program, cells: list[tuple[Unit, tuple[int, int]]], run: _Run) -> bool:
+        """Evaluate ``cells`` in one call if that is exact; False when it is not."""
+        s = cells[0][0].structure
+        if s.references or s.dynamic or any(u.span is not None for u, _ in cells):
+            return False
+        columns: list[list[Any]] = [[] for _ in prog.inputs]
+        per_cell = [self._args(prog, u, cell, run) for u, cell in cells]
+        for args in per_cell:
+            for i, a in enumerate(args):
+                columns[i].append(a)
+        varying: set[str] = set()
+        stacked: list[Any] = []
+        for name, column in zip(prog.inputs, columns, strict=True):
+            first = column[0]
+            if all(x is first or _same(x, first) for x in column):
+                stacked.append(first)
+                continue
+            if any(isinstance(x, np.ndarray) for x in column):
+                return False  # a range that moves with the cell: cell by cell
+            arr = np.empty((len(column), 1), dtype=object)
+            arr[:, 0] = column
+            stacked.append(arr)
+            varying.add(name)
+        if not varying or not prog.elementwise(varying, self.elementwise):
+            return False
+        with Messages.collect() as box:
+            try:
+                result = prog.run(stacked)
+            except Exception:  # let the cells say what went wrong, one by one
+                return False
+        n = len(cells)
+        if isinstance(result, np.ndarray) and result.size == n:
+            flat: list[Any] = list(result.reshape(-1))
+        elif isinstance(result, (np.ndarray, list, tuple)):
+            return False
+        else:
+            flat = [result] * n
+        for i, ((u, cell), value) in enumerate(zip(cells, flat, strict=True)):
+            key = (u.sheet, cell[0], cell[1])
+            settled = _settle(value)
+            run.values[key] = settled
+            self._message(key, settled, box.items, i, run)
+        return True
+
+    @staticmethod
+    def _message(
+        key: Key, value: Any, items: list[tuple[int | None, str]], index: int | None, run: _Run
+    ) -> None:
+        if not isinstance(value, XlError):
+            run.messages.pop(key, None)
+            return
+        code = str(value)
+        for at, text in items:
+            if at is not None and index is not None and at != index:
+                continue
+            m = _CODE.match(text)
+            if m and m.group(1) == code:
+                run.messages[key] = text
+                return
+        run.messages.pop(key, None)
+
+
+def _same(a: Any, b: Any) -> bool:
+    if type(a) is not type(b) or isinstance(a, np.ndarray):
+        return False
+    try:
+        return bool(a == b)
+    except Exception:
+        return False
+
+
+__all__ += ["ProgramError", "engine_value"]

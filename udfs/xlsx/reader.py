@@ -1,0 +1,447 @@
+"""Read a workbook's cells, formulas, names and tables from its package, within limits.
+
+One streaming pass (defusedxml) over exactly the parts the evaluator uses: the
+sheets the workbook part lists, its shared strings and its tables. Every
+limit of :class:`udfs.xlsx.guard.Limits` is checked while reading, before any
+work grows with it: cells, rows, formula cells, formula length and nesting,
+shared strings, array-formula extents, merged ranges, hyperlinks, data
+validations and conditional formats (which other readers expand cell by cell).
+
+Values: numbers are floats, text is str, TRUE/FALSE bool, error cells
+:class:`~udfs.sheet.error_values.SheetError`. Shared formulas are kept as their
+master's text with the master's position (``anchor``): a cell's own formula is
+that text shifted by its offset from the anchor.
+
+>>> import io, openpyxl
+>>> wb = openpyxl.Workbook(); ws = wb.active; ws.title = "Calc"
+>>> ws["A1"] = 2; ws["A2"] = "=A1*21"; ws["B1"] = "kg"
+>>> buf = io.BytesIO(); wb.save(buf)
+>>> book = read_workbook(buf.getvalue(), "demo.xlsx")
+>>> s = book.sheets[0]
+>>> s.name, s.values[(1, 1)], s.values[(1, 2)], s.formulas[(2, 1)].text, s.max_row
+('Calc', 2.0, 'kg', '=A1*21', 2)
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+from udfs.sheet.error_values import CellValue, SheetError
+
+from .file_errors import HostileFileError, WorkbookError
+from .formula_text import TokenizeError, shift_formula
+from .guard import DEFAULT_LIMITS, Limits, PackageReport, check_package, formula_nesting
+from .package import DefinedName, Package, local
+from .refs import MAX_COL, MAX_ROW, col_index, sheet_key
+
+__all__ = ["FormulaCell", "SheetData", "Table", "WorkbookData", "read_workbook"]
+
+_COORD = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]{1,7})$")
+_ERROR_CODES = {
+    "#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A", "#SPILL!", "#CALC!",
+    "#GETTING_DATA", "#FIELD!", "#BLOCKED!", "#CONNECT!", "#BUSY!", "#UNKNOWN!", "#PYTHON!",
+}
+
+
+@dataclass
+class FormulaCell:
+    """A formula as stored: ``text`` (with "="), written for the ``anchor`` cell.
+
+    ``kind`` is "normal", "shared", "array" or "dataTable"; ``span`` the range an
+    array formula fills (r1, c1, r2, c2); ``cached`` the value the file holds.
+    """
+
+    text: str
+    anchor: tuple[int, int]
+    kind: str = "normal"
+    span: tuple[int, int, int, int] | None = None
+    cached: CellValue = None
+
+    def text_at(self, row: int, col: int) -> str:
+        """The cell's own formula text (a shared formula shifted to the cell)."""
+        dr, dc = row - self.anchor[0], col - self.anchor[1]
+        if (dr, dc) == (0, 0):
+            return self.text
+        try:
+            return shift_formula(self.text, dr, dc)
+        except TokenizeError:
+            return self.text
+
+
+@dataclass
+class SheetData:
+    """One sheet's cells: constants by (row, col), formulas by (row, col)."""
+
+    name: str
+    index: int
+    part: str
+    state: str = "visible"
+    kind: str = "worksheet"
+    values: dict[tuple[int, int], CellValue] = field(default_factory=dict)
+    formulas: dict[tuple[int, int], FormulaCell] = field(default_factory=dict)
+    max_row: int = 0
+    max_col: int = 0
+
+    @property
+    def key(self) -> str:
+        return sheet_key(self.name)
+
+
+@dataclass(frozen=True)
+class Table:
+    """A structured table: its range, header and totals rows, column names in order."""
+
+    name: str
+    sheet: str
+    r1: int
+    c1: int
+    r2: int
+    c2: int
+    header_rows: int
+    totals_rows: int
+    columns: tuple[str, ...]
+
+
+@dataclass
+class WorkbookData:
+    """Everything the evaluator reads from a workbook file."""
+
+    name: str
+    package: Package
+    report: PackageReport
+    sheets: list[SheetData]
+    defined_names: list[DefinedName]
+    tables: list[Table]
+    iterate: bool = False  # the workbook asks for iterative calculation
+
+    def sheet(self, name: str) -> SheetData | None:
+        """The worksheet called ``name``, compared as Excel compares sheet names."""
+        key = sheet_key(name)
+        return next((s for s in self.sheets if s.key == key), None)
+
+
+def _coord(ref: str | None) -> tuple[int, int] | None:
+    m = _COORD.match(ref or "")
+    return (int(m.group(2)), col_index(m.group(1))) if m else None
+
+
+def _span(ref: str) -> tuple[int, int, int, int] | None:
+    parts = ref.split(":")
+    a, b = _coord(parts[0]), _coord(parts[-1])
+    if a is None or b is None or len(parts) > 2:
+        return None
+    return (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+
+
+def _area_of(sqref: str, what: str, name: str) -> int:
+    """Cells covered by a space-separated list of ranges (whole columns included)."""
+    total = 0
+    for part in sqref.split():
+        span = _span(part)
+        if span is None:
+            m = re.fullmatch(r"\$?([A-Za-z]{1,3}):\$?([A-Za-z]{1,3})", part)
+            n = re.fullmatch(r"\$?([0-9]+):\$?([0-9]+)", part)
+            if m:
+                total += MAX_ROW * (abs(col_index(m.group(2)) - col_index(m.group(1))) + 1)
+            elif n:
+                total += MAX_COL * (abs(int(n.group(2)) - int(n.group(1))) + 1)
+            else:
+                raise WorkbookError(f"{name}: damaged: {what} range {part[:40]!r}")
+            continue
+        total += (span[2] - span[0] + 1) * (span[3] - span[1] + 1)
+    return total
+
+
+class _SheetReader:
+    """Streams one sheet part into a SheetData, checking limits as it goes."""
+
+    def __init__(self, book: _Reading, sheet: SheetData):
+        self.book = book
+        self.sheet = sheet
+        self.shared: dict[str, FormulaCell] = {}
+        self.row = 0
+        self.col = 0
+        self.rows = 0
+        self.cell: dict[str, str] | None = None  # attributes of the open <c>
+        self.f: dict[str, str] | None = None  # attributes of its <f>
+        self.f_text: str | None = None
+        self.v_text: str | None = None
+        self.is_text: list[str] | None = None
+        self.buf: list[str] | None = None  # where character data goes
+
+    def read(self) -> None:
+        self.book.pkg.scan(self.sheet.part, self._start, self._end, self._text)
+        self.book.rows += self.rows
+
+    def _text(self, data: str) -> None:
+        if self.buf is not None:
+            self.buf.append(data)
+
+    def _start(self, tag: str, attrs: dict[str, str]) -> None:
+        book = self.book
+        if tag == "c":
+            self.cell = attrs
+            self.f = self.f_text = self.v_text = self.is_text = None
+        elif self.cell is not None:
+            if tag == "f":
+                self.f, self.buf = attrs, []
+            elif tag == "v":
+                self.buf = []
+            elif tag == "is":
+                self.is_text = []
+            elif tag == "t" and self.is_text is not None:
+                self.buf = []
+            elif tag == "rPh":  # phonetic text is not part of the value
+                self.is_text = None
+        elif tag == "row":
+            self.rows += 1
+            if self.rows > book.limits.rows:
+                raise HostileFileError(
+                    book.name, f"sheet {self.sheet.name!r} has more than {book.limits.rows:,} rows"
+                )
+            r = attrs.get("r")
+            self.row = int(r) if r is not None and r.isdigit() else self.row + 1
+            self.col = 0
+        elif tag in ("mergeCell", "hyperlink"):
+            book.count_area(tag, attrs.get("ref", ""), self.sheet.name)
+        elif tag in ("dataValidation", "conditionalFormatting"):
+            book.count_area(tag, attrs.get("sqref", ""), self.sheet.name)
+
+    def _end(self, tag: str) -> None:
+        if self.cell is None:
+            return
+        if tag == "c":
+            self._cell(self.cell)
+            self.cell = None
+        elif tag == "f":
+            self.f_text = "".join(self.buf or ())
+            self.buf = None
+        elif tag == "v":
+            self.v_text = "".join(self.buf or ())
+            self.buf = None
+        elif tag == "t" and self.is_text is not None:
+            self.is_text.append("".join(self.buf or ()))
+            self.buf = None
+
+    def _cell(self, attrs: dict[str, str]) -> None:
+        book = self.book
+        pos = _coord(attrs.get("r"))
+        if pos is None:
+            pos = (max(self.row, 1), self.col + 1)
+        row, col = pos
+        self.row, self.col = row, col
+        book.cells += 1
+        if book.cells > book.limits.cells:
+            raise HostileFileError(book.name, f"more than {book.limits.cells:,} cells")
+        value = self._value(attrs.get("t", "n"))
+        sheet = self.sheet
+        if self.f is not None:
+            formula = self._formula(self.f, self.f_text or "", row, col, value)
+            if formula is not None:
+                sheet.formulas[(row, col)] = formula
+                self._extend(row, col)
+                if formula.span is not None:
+                    self._extend(formula.span[2], formula.span[3])
+                return
+        if value is not None:
+            sheet.values[(row, col)] = value
+            self._extend(row, col)
+
+    def _extend(self, row: int, col: int) -> None:
+        s = self.sheet
+        if row > s.max_row:
+            s.max_row = row
+        if col > s.max_col:
+            s.max_col = col
+
+    def _value(self, t: str) -> CellValue:
+        if t == "inlineStr":
+            return None if self.is_text is None else "".join(self.is_text)
+        text = self.v_text
+        if not text:
+            return None
+        if t == "s":
+            try:
+                return self.book.strings[int(text)]
+            except (ValueError, IndexError):
+                raise WorkbookError(
+                    f"{self.book.name}: damaged: shared string {text[:20]!r} does not exist"
+                ) from None
+        if t in ("str", "d"):
+            return text
+        if t == "b":
+            return text.strip() in ("1", "true")
+        if t == "e":
+            code = text.strip()
+            return SheetError(code if code in _ERROR_CODES else "#VALUE!")
+        try:
+            return float(text)
+        except ValueError:
+            raise WorkbookError(f"{self.book.name}: damaged: number {text[:20]!r}") from None
+
+    def _formula(
+        self, f: dict[str, str], text: str, row: int, col: int, cached: CellValue
+    ) -> FormulaCell | None:
+        book = self.book
+        kind = f.get("t", "normal")
+        if kind == "shared":
+            si = f.get("si", "")
+            if text:
+                master = FormulaCell("=" + text, (row, col), "shared", cached=cached)
+                self.shared[si] = master
+            elif si in self.shared:
+                m = self.shared[si]
+                master = FormulaCell(m.text, m.anchor, "shared", cached=cached)
+            else:
+                raise WorkbookError(
+                    f"{book.name}: damaged: shared formula {si!r} used before it is defined"
+                )
+            book.count_formula(text, self.sheet.name)
+            return master
+        if not text and kind != "dataTable":
+            return None
+        book.count_formula(text, self.sheet.name)
+        cell = FormulaCell("=" + text, (row, col), kind, cached=cached)
+        if kind == "array":
+            span = _span(f.get("ref", "")) or (row, col, row, col)
+            area = (span[2] - span[0] + 1) * (span[3] - span[1] + 1)
+            if area > book.limits.cells:
+                raise HostileFileError(
+                    book.name,
+                    f"an array formula on sheet {self.sheet.name!r} fills {area:,} cells "
+                    f"(limit {book.limits.cells:,})",
+                )
+            cell.span = span
+        return cell
+
+
+class _Reading:
+    """State shared by the sheets of one workbook while it is read."""
+
+    def __init__(self, pkg: Package, limits: Limits):
+        self.pkg = pkg
+        self.name = pkg.name
+        self.limits = limits
+        self.cells = 0
+        self.rows = 0
+        self.formulas = 0
+        self.areas: dict[str, int] = {}
+        self.counts: dict[str, int] = {}
+        self.strings: list[str] = []
+
+    def count_formula(self, text: str, sheet: str) -> None:
+        lim = self.limits
+        self.formulas += 1
+        if self.formulas > lim.formula_cells:
+            raise HostileFileError(
+                self.name,
+                f"more than {lim.formula_cells:,} formula cells (raise the limit with "
+                "--max-formulas)",
+            )
+        if len(text) > lim.formula_length:
+            raise HostileFileError(
+                self.name,
+                f"a formula on sheet {sheet!r} is {len(text):,} characters long "
+                f"(limit {lim.formula_length:,})",
+            )
+        depth = formula_nesting(text)
+        if depth > lim.nesting:
+            raise HostileFileError(
+                self.name,
+                f"a formula on sheet {sheet!r} nests {depth} function calls "
+                f"(limit {lim.nesting}, as in Excel)",
+            )
+
+    def count_area(self, what: str, ref: str, sheet: str) -> None:
+        lim = self.limits
+        n = self.counts[what] = self.counts.get(what, 0) + 1
+        if n > lim.ranges:
+            raise HostileFileError(self.name, f"more than {lim.ranges:,} {what} entries")
+        if what in ("mergeCell", "hyperlink"):  # readers expand these cell by cell
+            area = self.areas[what] = self.areas.get(what, 0) + _area_of(ref, what, self.name)
+            if area > lim.cells:
+                raise HostileFileError(
+                    self.name,
+                    f"{what} ranges on sheet {sheet!r} and before cover {area:,} cells "
+                    f"(limit {lim.cells:,})",
+                )
+
+    def read_strings(self, part: str | None) -> None:
+        if part is None:
+            return
+        state: dict[str, list[str] | None] = {"si": None, "buf": None}
+
+        def start(tag: str, attrs: dict[str, str]) -> None:
+            if tag == "si":
+                state["si"] = []
+            elif tag == "t" and state["si"] is not None:
+                state["buf"] = []
+            elif tag == "rPh":  # phonetic guide text is not part of the string
+                state["si"], state["skip"] = None, state["si"]
+
+        def end(tag: str) -> None:
+            si, buf = state["si"], state["buf"]
+            if tag == "t" and si is not None and buf is not None:
+                si.append("".join(buf))
+                state["buf"] = None
+            elif tag == "rPh":
+                state["si"] = state.pop("skip", None)
+            elif tag == "si":
+                self.strings.append("".join(si or ()))
+                state["si"] = None
+                if len(self.strings) > self.limits.shared_strings:
+                    raise HostileFileError(
+                        self.name, f"more than {self.limits.shared_strings:,} shared strings"
+                    )
+
+        def text(data: str) -> None:
+            buf = state["buf"]
+            if buf is not None:
+                buf.append(data)
+
+        self.pkg.scan(part, start, end, text)
+
+
+def _read_tables(reading: _Reading, sheet: SheetData) -> list[Table]:
+    pkg = reading.pkg
+    out: list[Table] = []
+    for rtype, target, mode in pkg.relationships(sheet.part).values():
+        if rtype != "/table" or mode == "External" or target not in pkg.names:
+            continue
+        root = pkg.xml(target)
+        span = _span(root.get("ref", ""))
+        name = root.get("displayName") or root.get("name") or ""
+        if span is None or not name:
+            continue
+        columns = tuple(
+            el.get("name", "") for el in root.iter() if local(el.tag) == "tableColumn"
+        )
+        header = int(root.get("headerRowCount", "1") or 1)
+        totals = int(root.get("totalsRowCount", "0") or 0)
+        out.append(Table(name, sheet.name, *span, header, totals, columns))
+    return out
+
+
+def read_workbook(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> WorkbookData:
+    """Check ``data`` (an .xlsx) against ``limits`` and read what the evaluator needs.
+
+    Raises HostileFileError past a limit and WorkbookError for a damaged file.
+    """
+    report = check_package(data, name, limits)
+    pkg = report.package
+    reading = _Reading(pkg, limits)
+    reading.read_strings(report.shared_strings_part)
+    sheets: list[SheetData] = []
+    tables: list[Table] = []
+    for index, entry in enumerate(pkg.sheets):
+        sheet = SheetData(entry.name, index, entry.part, entry.state, entry.kind)
+        if entry.kind == "worksheet":
+            _SheetReader(reading, sheet).read()
+            tables += _read_tables(reading, sheet)
+        sheets.append(sheet)
+    report.cells, report.formula_cells, report.rows = reading.cells, reading.formulas, reading.rows
+    report.shared_strings = len(reading.strings)
+    return WorkbookData(
+        name, pkg, report, sheets, list(pkg.defined_names), tables, pkg.iterate
+    )
