@@ -236,13 +236,8 @@ def _demo_workbook(out: str, force: bool) -> int:
 
 
 def _cmd_sweep(args: argparse.Namespace) -> int:
-    from udfs.app.sweep import (
-        check_table_output,
-        parse_vary,
-        sweep_core,
-        sweep_workbook,
-        write_table,
-    )
+    from udfs.app.sweep import parse_vary, sweep_core, sweep_workbook
+    from udfs.app.tables import check_table_output, write_table
     from udfs.xlsx.file_errors import ReferenceSyntaxError
 
     varies = [parse_vary(v) for v in args.vary or []]

@@ -20,8 +20,8 @@ from udfs.app.sweep import (
     parse_vary,
     sweep_core,
     sweep_workbook,
-    write_table,
 )
+from udfs.app.tables import write_table
 from udfs.core.sizing import design_cell
 from udfs.engine.model import load_model
 from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
