@@ -1211,10 +1211,10 @@ CLI_BAD_INPUTS: tuple[CliBadInput, ...] = (
     C("calc", ("calc", "{book}"), 2, "-o/--output", "no output"),
     C(
         "calc",
-        ("calc", "{book}", "-o", "{out}.xlsx", "--keep-formulas", "--values-only"),
+        ("calc", "{book}", "-o", "{out}.xlsx", "--keep-formulas"),
         2,
-        "not allowed with",
-        "exclusive modes",
+        "unrecognized arguments: --keep-formulas",
+        "a removed option (outputs keep every formula now)",
     ),
     C(
         "calc",

@@ -17,10 +17,9 @@ import pytest
 from bad_input_catalogue import build_book
 
 from udfs.cli import main
+from udfs.core.caution import CAUTION
 from udfs.engine.functions import register
 from udfs.sheet.error_values import SheetError
-
-CAUTION = "Caution: results are estimates; follow the applicable standards, local codes"
 
 
 def _halve(x):
@@ -129,10 +128,8 @@ def test_force_replaces_and_values_modes(capsys, book, tmp_path):
     assert code == 1 and "already exists" in err
     assert call(capsys, "calc", book, "-o", out, "--values-only", "--force")[0] == 0
     assert openpyxl.load_workbook(out)["Calc"]["A1"].value == 120
-    assert call(capsys, "calc", book, "-o", out, "--keep-formulas", "--force")[0] == 0
+    assert call(capsys, "calc", book, "-o", out, "--force")[0] == 0  # the default: a live model
     assert openpyxl.load_workbook(out)["Calc"]["A3"].value.startswith("=CW_MOLAR_MASS")
-    code, _, err = call(capsys, "calc", book, "-o", out, "--keep-formulas", "--values-only")
-    assert code == 2 and "not allowed with" in err
 
 
 @pytest.mark.parametrize(
@@ -392,8 +389,13 @@ def quick_demo(book, monkeypatch):
     (write_evaluation, atomic writer) in a fraction of the time; the real demo
     workbook is written in test_every_writer_survives_a_full_disk[demo]."""
     from udfs.app import templates
+    from udfs.engine.model import load_model
 
-    monkeypatch.setattr(templates, "demo_workbook", lambda: ("stand-in", book.read_bytes()))
+    def stand_in():
+        model = load_model(book.read_bytes(), "stand-in.xlsx")
+        return model, model.evaluate(), b""
+
+    monkeypatch.setattr(templates, "demo_workbook", stand_in)
 
 
 def _no_tmp_left(directory):

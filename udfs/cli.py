@@ -47,29 +47,21 @@ def _say(text: str = "", stream: TextIO | None = None) -> None:
 
 
 def _caution() -> None:
-    from udfs.app.caution import CAUTION
+    from udfs.core.caution import CAUTION
 
     _say(CAUTION)
 
 
-def _show(value: Any) -> str:
-    from udfs.sheet.error_values import SheetError
-
-    if isinstance(value, SheetError):
-        return value.code
-    if isinstance(value, bool):
-        return "TRUE" if value else "FALSE"
-    if isinstance(value, float):
-        return f"{value:.6g}"
-    if value is None:
-        return "(empty)"
-    return str(value)
+def _lines(out: list[str], err: list[str]) -> None:
+    for line in out:
+        _say(line)
+    for line in err:
+        _say(line, sys.stderr)
 
 
-def _parse_set(text: str) -> tuple[str, Any]:
-    """``Sheet!B4=40`` / ``'My sheet'!B4=x`` / ``name=40`` -> (target, typed value)."""
+def _parse_set(text: str) -> tuple[str, str]:
+    """``Sheet!B4=40`` / ``'My sheet'!B4=x`` / ``name=40`` -> (target, value as typed)."""
     from udfs.xlsx.file_errors import ReferenceSyntaxError
-    from udfs.xlsx.refs import parse_value
 
     start = 0
     if text.startswith("'"):
@@ -85,81 +77,55 @@ def _parse_set(text: str) -> tuple[str, Any]:
     eq = text.find("=", start)
     if eq <= 0 or not text[:eq].strip():  # no '=', or nothing before it but blanks
         raise ReferenceSyntaxError(
-            f"--set {text!r}: write CELL=VALUE, e.g. Inputs!B4=40 or a_defined_name=40"
+            f"--set {text[:60]!r}: write CELL=VALUE, e.g. Inputs!B4=40 or a_defined_name=40"
         )
-    return text[:eq].strip(), parse_value(text[eq + 1 :])
-
-
-def _report(evaluation: Any, limit: int = 30) -> None:
-    """Named outputs (and the named inputs that were set), then notes and problems."""
-    named = evaluation.named()
-    outputs = [n for n in named if n.is_output]
-    set_inputs = [n for n in named if not n.is_output and n.ref in evaluation.inputs]
-    shown = outputs + set_inputs
-    if shown:
-        width = min(max(len(n.name) for n in shown), 40)
-        _say("Named outputs:" if outputs else "Named cells:")
-        for n in shown:
-            tag = "  (input, set)" if not n.is_output else ""
-            _say(f"  {n.name:<{width}} = {_show(n.value)}{tag}")
-    hidden = len(named) - len(shown)
-    if not outputs:
-        _say("The workbook has no defined names for single formula cells (no named outputs).")
-    if hidden:
-        _say(f"({hidden} named input cells not shown)")
-    problems = evaluation.errors()
-    notes = [d for d in evaluation.diagnostics if d.kind == "note"] + list(evaluation.notes)
-    for note in notes:
-        _say(f"note: {note}", sys.stderr)
-    if problems:
-        _say(f"{len(problems)} problem(s):", sys.stderr)
-        for d in problems[:limit]:
-            _say(f"  {d}", sys.stderr)
-        if len(problems) > limit:
-            _say(f"  ... and {len(problems) - limit} more", sys.stderr)
+    return text[:eq].strip(), text[eq + 1 :]
 
 
 # ----------------------------------------------------------------------- commands
 
-
 _MODE_TEXT = {
-    "portable": "values of cellwright functions, Excel formulas kept with their values",
-    "all": "all formulas kept, computed values stored",
-    "none": "values only",
+    "live": "every formula kept with its computed value",
+    "values": "a values-only copy, labelled as such, its formulas kept for restoring",
 }
 
 
 def _cmd_calc(args: argparse.Namespace) -> int:
-    from udfs.app.calc import check_output_suffix, read_workbook, write_evaluation
+    from udfs.app.calc import (
+        check_output_suffix,
+        checked_overrides,
+        findings,
+        open_model,
+        write_evaluation,
+    )
+    from udfs.app.report import evaluation_lines
     from udfs.xlsx.file_errors import ReferenceSyntaxError
     from udfs.xlsx.files import check_output
-    from udfs.xlsx.refs import CellRef
 
-    overrides: dict[CellRef | str, Any] = {}
+    texts: dict[str, str] = {}
     for text in args.set or []:
         target, value = _parse_set(text)
-        if any(target.casefold() == str(t).casefold() for t in overrides):
+        if any(target.casefold() == t.casefold() for t in texts):
             # a second --set of the same target would silently win over the first
-            raise ReferenceSyntaxError(f"--set {target} is given twice")
-        overrides[target] = value
+            raise ReferenceSyntaxError(f"--set {target[:60]} is given twice")
+        texts[target] = value
     check_output(args.output, args.force, inputs=[args.input])
-    model = read_workbook(args.input, _limits(args))
+    model = open_model(args.input, _limits(args))
     check_output_suffix(model, args.output)
-    evaluation = model.evaluate(overrides)
-    setting = ", ".join(f"{ref.address} = {_show(v)}" for ref, v in evaluation.inputs.items())
-    _say(
-        f"Evaluated {model.name}: {model.formula_count:,} formula cells (compiled in "
-        f"{model.build_seconds:.2f} s, evaluated in {evaluation.seconds:.2f} s)"
-        + (f" with {setting}" if setting else "")
-    )
-    _report(evaluation)
-    mode = "all" if args.keep_formulas else "none" if args.values_only else "portable"
+    evaluation = model.evaluate(checked_overrides(model, texts))
+    found = findings(evaluation)
+    _lines(*evaluation_lines(model, evaluation, found))
+    mode = "values" if args.values_only else "live"
     path = write_evaluation(
         model, evaluation, args.output, force=args.force, mode=mode, inputs=(args.input,)
     )
     _say(f"Wrote {path} ({_MODE_TEXT[mode]}); {args.input} was not modified.")
     _caution()
-    return 1 if args.strict and evaluation.errors() else 0
+    if args.strict and (found or evaluation.errors()):
+        _say(f"{PROG} calc: --strict: {len(found)} design check(s) fire, "
+             f"{len(evaluation.errors())} problem(s)", sys.stderr)
+        return 1
+    return 0
 
 
 def _cmd_template(args: argparse.Namespace) -> int:
@@ -169,68 +135,35 @@ def _cmd_template(args: argparse.Namespace) -> int:
     if args.list or not args.name:
         if not args.list:
             _say(f"{PROG} template: give a template NAME and -o PATH, or --list", sys.stderr)
-        if names:
-            _say("Templates: " + ", ".join(names))
-        else:
-            _say("No templates are available yet.")
+        _say("Templates: " + ", ".join(names))
         return 0 if args.list else 2
     if not args.output:
         _say(f"{PROG} template: error: -o PATH is required (see --help)", sys.stderr)
         return 2
     templates.write_template(args.name, args.output, args.force)
-    _say(f"Wrote template {args.name!r} to {args.output}.")
+    _say(f"Wrote template {args.name!r} to {args.output} (computed: it shows its values "
+         "without the add-in).")
     _caution()
     return 0
 
 
 def _cmd_demo(args: argparse.Namespace) -> int:
-    from udfs.app.demo import demo_spec, format_bom
-    from udfs.core.sizing import design_cell
-    from udfs.xlsx.files import check_output
-
-    has_workbook = True
-    out = args.output if args.output is not None else _fresh_demo_name()
-    if args.output is not None and not has_workbook:
-        raise _DemoUnavailableError()
-    if has_workbook:
-        check_output(out, args.force)  # refuse early, before any work
-    _say(format_bom(design_cell(demo_spec())))
-    if not has_workbook:
-        _say("")
-        _say("(The demo workbook is written once the cell-sizing template exists.)")
-        return 0
-    return _demo_workbook(out, args.force)
-
-
-def _fresh_demo_name(stem: str = "cellwright-demo") -> str:
-    """The default demo file: ``cellwright-demo.xlsx``, or the first free
-    ``cellwright-demo-N.xlsx`` when earlier demos are there (never overwritten)."""
-    name = f"{stem}.xlsx"
-    n = 1
-    while os.path.exists(name):
-        n += 1
-        name = f"{stem}-{n}.xlsx"
-    return name
-
-
-class _DemoUnavailableError(Exception):
-    pass
-
-
-def _demo_workbook(out: str, force: bool) -> int:
-    """Fill the demo workbook headlessly and write it with its computed values."""
     from udfs.app import templates
-    from udfs.app.calc import write_evaluation
-    from udfs.engine.model import load_model
+    from udfs.app.calc import evaluation_bytes, findings
+    from udfs.app.demo import demo_spec, format_bom, fresh_demo_name
+    from udfs.app.report import evaluation_lines
+    from udfs.core.sizing import design_cell
+    from udfs.xlsx.files import check_output, write_bytes_atomic
 
-    what, data = templates.demo_workbook()
-    model = load_model(data, "cellwright-demo.xlsx")
-    evaluation = model.evaluate()
+    out = args.output if args.output is not None else fresh_demo_name()
+    check_output(out, args.force)  # refuse early, before any work
+    _say(format_bom(design_cell(demo_spec())))
+    model, evaluation, _data = templates.demo_workbook()
     _say("")
-    _say(f"Demo workbook ({what}), computed headlessly:")
-    _report(evaluation)
-    path = write_evaluation(model, evaluation, out, force=force)
-    _say(f"Wrote the demo workbook to {Path(path).resolve()} ({_MODE_TEXT['portable']}).")
+    _say("Demo workbook (the cell-sizing template filled with the demo scenario), computed:")
+    _lines(*evaluation_lines(model, evaluation, findings(evaluation)))
+    write_bytes_atomic(out, evaluation_bytes(model, evaluation, "live"), args.force)
+    _say(f"Wrote the demo workbook to {Path(out).resolve()} ({_MODE_TEXT['live']}).")
     _caution()
     return 0
 
@@ -254,9 +187,9 @@ def _cmd_sweep(args: argparse.Namespace) -> int:
     else:
         if not args.input:
             raise ReferenceSyntaxError("give the workbook to sweep (or --model core)")
-        from udfs.app.calc import read_workbook
+        from udfs.app.calc import open_model
 
-        model = read_workbook(args.input, _limits(args))
+        model = open_model(args.input, _limits(args))
         table = sweep_workbook(model, varies, args.output_cells or ())
     path = write_table(table, args.out, args.force, inputs)
     _say(
@@ -308,18 +241,17 @@ def build_parser() -> argparse.ArgumentParser:
         help="set an input cell first: Sheet!B4=40, 'My sheet'!B4=LFP, name=40, "
         'Sheet!B5=TRUE or Sheet!B6="42" for text (repeatable)',
     )
-    keep = p.add_mutually_exclusive_group()
-    keep.add_argument(
-        "--keep-formulas",
+    p.add_argument(
+        "--values-only",
         action="store_true",
-        help="keep every formula, results stored as cached values (Excel with the add-in)",
-    )
-    keep.add_argument(
-        "--values-only", action="store_true", help="replace every formula by its value"
+        help="write a values-only copy instead of the model: formulas replaced by their values, "
+        "labelled as such with the inputs it was computed from (calc restores its formulas)",
     )
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     p.add_argument(
-        "--strict", action="store_true", help="exit 1 if any cell has an error or a problem"
+        "--strict",
+        action="store_true",
+        help="exit 1 if any design check fires or any cell has an error or a problem",
     )
     _max_formulas(p)
     p.set_defaults(func=_cmd_calc)
@@ -436,13 +368,6 @@ def main(argv: Sequence[str] | None = None) -> int:
     where = f"{PROG} {args.command}"
     try:
         return int(args.func(args))
-    except _DemoUnavailableError:
-        _say(
-            f"{where}: error: the demo workbook needs the cell-sizing template, which does not "
-            "exist yet",
-            sys.stderr,
-        )
-        return 1
     except (EngineError, CellwrightError) as exc:
         if debug:
             raise

@@ -1,56 +1,135 @@
-"""Evaluate a workbook file and write the results to a new file.
+"""``cellwright calc``: evaluate a workbook and write a new one that is still a model.
+
+* the input is read, never written; a values-only copy made earlier gets its
+  formulas back first (:func:`open_model`), so frozen results are never taken
+  for inputs;
+* ``--set`` values are checked against the workbook's input table when it has
+  one (the one declaration of each input: bounds, allowed names), then set;
+* the output keeps every formula with its computed value cached
+  (:func:`udfs.xlsx.writer.write_live`), or -- on request -- is a labelled
+  values-only copy (:func:`udfs.xlsx.values_copy.label_parts`);
+* cells that could not be evaluated, and cells computed from them, keep their
+  formula and their original cached value in every mode.
 
 >>> import io, pathlib, tempfile, openpyxl
 >>> d = pathlib.Path(tempfile.mkdtemp())
 >>> wb = openpyxl.Workbook(); ws = wb.active; ws.title = "Calc"
 >>> ws["A1"] = 2; ws["A2"] = "=A1*21"; wb.save(d / "in.xlsx")
->>> report = calculate_file(d / "in.xlsx", d / "out.xlsx", {"Calc!A1": 3})
->>> openpyxl.load_workbook(d / "out.xlsx", data_only=True)["Calc"]["A2"].value
-63
+>>> report = calculate_file(d / "in.xlsx", d / "out.xlsx", {"Calc!A1": "3"})
+>>> kept = openpyxl.load_workbook(d / "out.xlsx")["Calc"]["A2"].value
+>>> kept, openpyxl.load_workbook(d / "out.xlsx", data_only=True)["Calc"]["A2"].value
+('=A1*21', 63)
 """
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
-from udfs.engine.model import Evaluation, Override, WorkbookModel, load_model
-from udfs.xlsx.file_errors import WorkbookError
+from udfs.core.errors import CellwrightError
+from udfs.core.input_tables import table_for
+from udfs.engine.model import Evaluation, WorkbookModel, load_model
+from udfs.sheet.error_values import CellValue, SheetError
+from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
 from udfs.xlsx.files import check_output, read_input, write_bytes_atomic
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
-from udfs.xlsx.refs import CellRef
-from udfs.xlsx.writer import write_results
-
-from .caution import CAUTION
+from udfs.xlsx.refs import CellRef, parse_value
+from udfs.xlsx.values_copy import (
+    MARKER,
+    about_xml,
+    formulas_xml,
+    label_parts,
+    restored,
+)
+from udfs.xlsx.writer import Edit, write_live, write_values
 
 __all__ = [
-    "CAUTION",
+    "MODES",
     "CalcReport",
+    "Finding",
     "calculate_file",
     "check_output_suffix",
-    "read_workbook",
+    "checked_overrides",
+    "evaluation_bytes",
+    "findings",
+    "open_model",
     "write_evaluation",
 ]
 
-
 StrPath = str | os.PathLike[str]
+MODES = ("live", "values")
+MAX_LISTED_INPUTS = 10_000
 
 
 @dataclass
 class CalcReport:
     """What :func:`calculate_file` did."""
 
+    model: WorkbookModel
     evaluation: Evaluation
     output: Path
     mode: str
+    findings: list[Finding] = field(default_factory=list)
 
 
-def read_workbook(path: StrPath, limits: Limits = DEFAULT_LIMITS) -> WorkbookModel:
-    """The compiled model of the workbook at ``path`` (opened read-only, cached by content)."""
+@dataclass(frozen=True)
+class Finding:
+    """A design rule of the workbook that fires: ``kind`` is "warning" or "error"."""
+
+    kind: str
+    name: str
+    message: str
+
+
+def open_model(path: StrPath, limits: Limits = DEFAULT_LIMITS) -> WorkbookModel:
+    """The model of the workbook at ``path`` (read-only; a values-only copy restored)."""
     data = read_input(path, limits.input_bytes)
-    return load_model(data, Path(path).name, limits)
+    name = Path(path).name
+    back = restored(data, name, limits)
+    model = load_model(back if back is not None else data, name, limits)
+    if back is not None:
+        model.restored_from_values = True
+    return model
+
+
+def checked_overrides(
+    model: WorkbookModel, texts: Mapping[str, str]
+) -> dict[CellRef | str, Any]:
+    """``--set`` texts as cell values, each checked against the workbook's input table
+    when it has one (refused: a one-line reason naming the input, value and range)."""
+    table = table_for(model.named_cells)
+    by_cell = {ref: name for name, ref in model.named_cells.items()}
+    out: dict[CellRef | str, Any] = {}
+    for target, text in texts.items():
+        ref = model.resolve(target)
+        name = by_cell.get(ref)
+        value = parse_value(text)
+        if table is not None and name is not None and name in table:
+            try:
+                table.check_typed(name, text)
+            except CellwrightError as exc:
+                raise ReferenceSyntaxError(f"--set {target}={text}: {exc}") from None
+        out[target] = value
+    return out
+
+
+def findings(evaluation: Evaluation) -> list[Finding]:
+    """The workbook's design rules that fire: named cells ``warn_*`` and ``err_*`` holding
+    a message (empty or FALSE when quiet), in the workbook's order."""
+    out: list[Finding] = []
+    for named in evaluation.named():
+        low = named.name.lower()
+        kind = "warning" if low.startswith("warn_") else "error" if low.startswith("err_") else ""
+        value = named.value
+        if not kind or value in (None, "", False, 0.0):
+            continue
+        text = value.code if isinstance(value, SheetError) else str(value)
+        out.append(Finding(kind, named.name, "fires" if value is True else text))
+    return out
 
 
 def check_output_suffix(model: WorkbookModel, out: StrPath) -> None:
@@ -66,46 +145,116 @@ def check_output_suffix(model: WorkbookModel, out: StrPath) -> None:
         raise WorkbookError(f"{Path(out).name}: the output of a workbook must end in .xlsx")
 
 
+def _edits(model: WorkbookModel, evaluation: Evaluation, strip: bool) -> dict[CellRef, Edit]:
+    """Computed formula cells get their values (and lose their formula when ``strip``);
+    cells not evaluated, or computed from them, stay as they are."""
+    frozen = model.not_evaluated | model.untrusted
+    edits: dict[CellRef, Edit] = {}
+    for key in model.formula_keys:
+        if key in frozen:
+            continue
+        ref = model.ref_of(key)
+        edits[ref] = Edit(evaluation.values.get(ref), "" if strip else None)
+    for ref, value in evaluation.inputs.items():
+        edits[ref] = Edit(value)
+    if strip:  # a kept cell of a filled-down formula keeps its own text, not the master's
+        for key in frozen:
+            ref = model.ref_of(key)
+            text = model.formula_text(ref)
+            fc = model.sheets[key[0]].formulas.get(key[1:])
+            if fc is not None and fc.kind == "shared" and text is not None:
+                edits[ref] = Edit(formula=text)
+    return edits
+
+
+def _listed_inputs(
+    model: WorkbookModel, evaluation: Evaluation
+) -> tuple[list[tuple[str, str, str, CellValue]], int]:
+    """The inputs a values-only copy was computed from: named input cells, cells set,
+    then every constant a formula reads (at most MAX_LISTED_INPUTS)."""
+    names = {ref: name for name, ref in model.named_cells.items()}
+    seen: dict[CellRef, str] = {}
+    for ref in evaluation.inputs:
+        seen[ref] = names.get(ref, "set with --set")
+    for name, ref in model.named_cells.items():
+        if not model.is_formula(ref):
+            seen.setdefault(ref, name)
+    for key in model.constants_read():
+        seen.setdefault(model.ref_of(key), "")
+    listed = list(seen.items())[:MAX_LISTED_INPUTS]
+    rows = [(label, ref.sheet, ref.coordinate, evaluation.value(ref)) for ref, label in listed]
+    return rows, len(seen) - len(listed)
+
+
+def evaluation_bytes(model: WorkbookModel, evaluation: Evaluation, mode: str = "live") -> bytes:
+    """A copy of ``model``'s workbook with ``evaluation`` in it: ``mode`` "live" keeps
+    every formula with its value cached, "values" is a labelled values-only copy."""
+    if mode not in MODES:
+        raise ValueError(f"mode must be one of {MODES}")
+    if mode == "live":
+        data = write_live(model.package, _edits(model, evaluation, strip=False))
+    else:
+        edits = _edits(model, evaluation, strip=True)
+        kept = []
+        frozen = model.not_evaluated | model.untrusted
+        for key in model.formula_keys:
+            fc = model.sheets[key[0]].formulas.get(key[1:])
+            if key in frozen or fc is None:
+                continue  # kept in place, or a member of an array formula (its top cell keeps it)
+            ref = model.ref_of(key)
+            span = None
+            if fc.span is not None:
+                r1, c1, r2, c2 = fc.span
+                span = f"{CellRef('', r1, c1).coordinate}:{CellRef('', r2, c2).coordinate}"
+            kept.append((ref.sheet, ref.coordinate, fc.text_at(ref.row, ref.col), span))
+        listed, left_out = _listed_inputs(model, evaluation)
+        when = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+        parts: dict[str, bytes | None] = {}
+        extra = label_parts(
+            model.package,
+            about_xml(listed, when, model.name, model.sha256, left_out),
+            formulas_xml(kept),
+            parts,
+        )
+        data = write_values(model.package, edits, parts, extra)
+    return data
+
+
 def write_evaluation(
     model: WorkbookModel,
     evaluation: Evaluation,
     out: StrPath,
     *,
     force: bool = False,
-    mode: str = "portable",
+    mode: str = "live",
     inputs: tuple[StrPath, ...] = (),
 ) -> Path:
-    """Write ``evaluation`` into a copy of ``model``'s workbook at ``out`` (atomically).
-
-    ``mode``: "portable" (formulas calling our functions become values), "all"
-    (every formula kept, values cached) or "none" (values only); see
-    :mod:`udfs.xlsx.writer`.
-    """
+    """Write :func:`evaluation_bytes` to ``out`` atomically (never over ``inputs``)."""
     check_output_suffix(model, out)
-    frozen = {model.ref_of(k) for k in model.not_evaluated | model.untrusted}
-    values = {ref: v for ref, v in evaluation.values.items() if ref not in frozen}
-    data = write_results(model.package, values, model.portable_refs(), mode)
-    write_bytes_atomic(out, data, force, inputs)
+    write_bytes_atomic(out, evaluation_bytes(model, evaluation, mode), force, inputs)
     return Path(out)
 
 
 def calculate_file(
     src: StrPath,
     out: StrPath,
-    overrides: Mapping[CellRef | str, Override] | None = None,
+    overrides: Mapping[str, str] | None = None,
     *,
     force: bool = False,
-    mode: str = "portable",
+    mode: str = "live",
     limits: Limits = DEFAULT_LIMITS,
 ) -> CalcReport:
-    """Evaluate ``src`` with ``overrides`` and write a new workbook ``out``.
+    """Evaluate ``src`` with ``overrides`` (target -> value as typed) and write ``out``.
 
-    ``src`` is only read. ``out`` is refused if it exists (unless ``force``)
-    or is ``src`` itself; it is written whole or not at all.
+    ``src`` is only read. ``out`` is refused if it exists (unless ``force``) or is
+    ``src`` itself; it is written whole or not at all.
     """
     check_output(out, force, inputs=[src])
-    model = read_workbook(src, limits)
+    model = open_model(src, limits)
     check_output_suffix(model, out)
-    evaluation = model.evaluate(overrides or {})
+    evaluation = model.evaluate(checked_overrides(model, overrides or {}))
     path = write_evaluation(model, evaluation, out, force=force, mode=mode, inputs=(src,))
-    return CalcReport(evaluation, path, mode)
+    return CalcReport(model, evaluation, path, mode, findings(evaluation))
+
+
+__all__ += ["MARKER"]

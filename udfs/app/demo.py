@@ -12,23 +12,25 @@ True
 
 from __future__ import annotations
 
+import os
 import textwrap
 
 import numpy as np
 
+from udfs.core.caution import CAUTION
 from udfs.core.errors import InputError
 from udfs.core.sizing import CellDesign
 from udfs.templates.demo_scenario import DEMO_COMPANY, DEMO_LABEL, DEMO_PRODUCT, demo_spec
 
-__all__ = ["CAUTION", "DEMO_COMPANY", "DEMO_LABEL", "DEMO_PRODUCT", "demo_spec", "format_bom"]
+__all__ = [
+    "DEMO_COMPANY",
+    "DEMO_LABEL",
+    "DEMO_PRODUCT",
+    "demo_spec",
+    "format_bom",
+    "fresh_demo_name",
+]
 
-CAUTION = (
-    "Caution: these figures are estimates from a simplified model and invented demo prices, "
-    "not a design release or a quotation. Cells can overheat, vent toxic and flammable gases, "
-    "burn or explode if made, charged or handled wrongly. Follow the applicable standards and "
-    "local codes, and have qualified engineers check any design before it is built, shipped "
-    "or used."
-)
 
 
 def _value(a: np.ndarray, index: int | tuple[int, ...] | None) -> float:
@@ -115,3 +117,14 @@ def format_bom(
         *textwrap.wrap(CAUTION, 88),
     ]
     return "\n".join(lines)
+
+
+def fresh_demo_name(stem: str = "cellwright-demo") -> str:
+    """The default demo file: ``cellwright-demo.xlsx``, or the first free
+    ``cellwright-demo-N.xlsx`` when earlier demos are there (never overwritten)."""
+    name = f"{stem}.xlsx"
+    n = 1
+    while os.path.exists(name):
+        n += 1
+        name = f"{stem}-{n}.xlsx"
+    return name

@@ -2,7 +2,7 @@
 
 >>> t = SweepTable(["x"], ["y"], {"x": [1.0, 2.0], "y": [3.0, 4.0]}, "demo", 2)
 >>> _csv_text(t).splitlines()[:2]
-['x,y', '1,3']
+['x,y', '1.0,3.0']
 """
 
 from __future__ import annotations
@@ -17,11 +17,10 @@ from typing import Any
 
 import numpy as np
 
+from udfs.core.caution import CAUTION
 from udfs.xlsx.file_errors import WorkbookError
 from udfs.xlsx.files import atomic_writer, check_output
 from udfs.xlsx.refs import col_letters
-
-from .caution import CAUTION
 
 __all__ = ["MAX_XLSX_ROWS", "SweepTable", "check_table_output", "write_table"]
 

@@ -32,7 +32,7 @@ estimates, not quotations.
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Mapping
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -40,7 +40,14 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from . import catalogue
-from .conversion_cost import COST_CAUTION, PLANT, PLANT_FIELDS, check_plant, plant_kernel
+from .conversion_cost import (
+    COST_CAUTION,
+    PLANT,
+    PLANT_FIELDS,
+    check_plant,
+    materials_factors,
+    plant_kernel,
+)
 from .errors import InputError, NotFoundError, UnitError
 from .metal_index import index as find_index
 from .names import closest
@@ -263,37 +270,64 @@ class CostModel:
         out["full per Ah"] = per_cell / capacity_Ah
         return out
 
-    def __call__(self, values: Mapping[str, Any]) -> dict[str, Array]:
-        """Outputs (USD per kWh unless named otherwise) for ``values``."""
+    def __call__(self, values: Mapping[str, Any]) -> Mapping[str, Array]:
+        """Outputs (USD per kWh unless named otherwise) for ``values``: a
+        read-only mapping that adds up a sum output (materials, conversion)
+        only when it is read, so a Monte Carlo run pays for what it keeps."""
         v = dict(self.base_values)
         v.update(values)
         per, _, energy, capacity = self._quantities(values)
-        out = self.kernel(v, per, energy, capacity)
-        return {
-            "full_USD_kWh": out["full"],
-            "full_USD_cell": out["full per cell"],
-            "full_USD_Ah": out["full per Ah"],
-            "materials_USD_kWh": out["materials in cells"] + out["scrap"] + out["scrap credit"],
-            "conversion_USD_kWh": out["depreciation"] + out["labour"] + out["energy"]
-            + out["overhead"],
-            **{f"{k}_USD_kWh".replace(" ", "_"): out[k] for k in (
-                "materials in cells", "scrap", "scrap credit", "depreciation", "labour",
-                "energy", "overhead", "margin")},
-        }
+        return _Outputs(self.kernel(v, per, energy, capacity))
 
     def sensitivities(self, values: Mapping[str, Any] | None = None) -> dict[str, Array]:
         """d(full USD/kWh) / d(index), in USD/kWh per 1,000 USD/t, per index."""
         v = dict(self.base_values)
         v.update(values or {})
         _, kg, _, _ = self._quantities(values or {})
-        k = plant_kernel(0.0, 0.0, v)
+        factors = materials_factors(v)
         prices = dict(self.prices)
         out: dict[str, Any] = {}
         for ln, q in zip(self.lines, kg, strict=True):
-            factor = k["materials factor " + ("electrode" if ln.electrode else "other")]
+            factor = factors[0] if ln.electrode else factors[1]
             for ix, c in prices[ln.material].coefficients:
                 out[ix] = out.get(ix, 0.0) + q * c * factor
-        return {ix: np.asarray(s * k["margin factor"]) for ix, s in out.items()}
+        return {ix: np.asarray(s * factors[2]) for ix, s in out.items()}
+
+
+#: The outputs of :class:`CostModel` and the kernel lines each is made of.
+OUTPUTS: dict[str, tuple[str, ...]] = {
+    "full_USD_kWh": ("full",),
+    "full_USD_cell": ("full per cell",),
+    "full_USD_Ah": ("full per Ah",),
+    "materials_USD_kWh": ("materials in cells", "scrap", "scrap credit"),
+    "conversion_USD_kWh": ("depreciation", "labour", "energy", "overhead"),
+    **{f"{k}_USD_kWh".replace(" ", "_"): (k,) for k in (
+        "materials in cells", "scrap", "scrap credit", "depreciation", "labour", "energy",
+        "overhead", "margin")},
+}
+
+
+class _Outputs(Mapping[str, Any]):
+    """The model's outputs over one kernel result, summed when read."""
+
+    def __init__(self, kernel: Mapping[str, Any]):
+        self._k = kernel
+        self._done: dict[str, Any] = {}
+
+    def __getitem__(self, name: str) -> Any:
+        if name not in self._done:
+            parts = OUTPUTS[name]
+            total = self._k[parts[0]]
+            for part in parts[1:]:
+                total = total + self._k[part]
+            self._done[name] = total
+        return self._done[name]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(OUTPUTS)
+
+    def __len__(self) -> int:
+        return len(OUTPUTS)
 
 
 def cost_model(

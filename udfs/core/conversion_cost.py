@@ -62,6 +62,7 @@ __all__ = [
     "PLANT_FIELDS",
     "PlantCost",
     "check_plant",
+    "materials_factors",
     "plant_cost",
     "plant_kernel",
 ]
@@ -134,23 +135,34 @@ _LINES = ("materials in cells", "scrap", "scrap credit", "depreciation", "labour
 def plant_kernel(E: Any, C: Any, p: Mapping[str, Any]) -> dict[str, Any]:
     """The equations of the module docstring on plain numbers or numpy arrays
     (no checks, arithmetic only, so that a plain-float loop runs the very same
-    code). ``p`` maps every field of :data:`PLANT` to its value."""
+    code). ``p`` maps every field of :data:`PLANT` to its value.
+
+    Sums are built with augmented assignment on a fresh result (``x = a + b;
+    x += c``): in place on arrays (no temporary per term), the same float
+    operations in the same order on plain numbers."""
     ye, ya, yf = p["electrode_yield"], p["assembly_yield"], p["formation_yield"]
     k_form = 1.0 / yf
     k_asm = k_form / ya
     k_el = k_asm / ye
     in_cells = E + C
-    scrap = E * k_el + C * k_asm - in_cells
-    credit = -p["scrap_credit"] * scrap
+    scrap = E * k_el
+    scrap += C * k_asm
+    scrap -= in_cells
+    credit = scrap * -p["scrap_credit"]
     depreciation = p["capex_USD_per_GWh"] / (p["depreciation_years"] * 1e6)
-    labour = p["labour_headcount"] * p["labour_cost_USD_per_year"] / (
-        p["annual_output_GWh"] * 1e6)
-    energy_kWh = (p["energy_electrode_kWh_per_kWh"] * k_el
-                  + p["energy_dry_room_kWh_per_kWh"] * k_asm
-                  + p["energy_formation_kWh_per_kWh"] * k_form)
+    labour = p["labour_headcount"] * p["labour_cost_USD_per_year"]
+    labour /= p["annual_output_GWh"] * 1e6
+    energy_kWh = p["energy_electrode_kWh_per_kWh"] * k_el
+    energy_kWh += p["energy_dry_room_kWh_per_kWh"] * k_asm
+    energy_kWh += p["energy_formation_kWh_per_kWh"] * k_form
     energy = p["energy_price_USD_per_kWh"] * energy_kWh
-    overhead = p["overhead_fraction"] * (depreciation + labour + energy)
-    before_margin = in_cells + scrap + credit + depreciation + labour + energy + overhead
+    conversion = depreciation + labour
+    conversion += energy
+    overhead = p["overhead_fraction"] * conversion
+    before_margin = in_cells + scrap
+    before_margin += credit
+    before_margin += conversion
+    before_margin += overhead
     margin = p["margin_fraction"] * before_margin
     return {
         "materials in cells": in_cells,
@@ -163,10 +175,18 @@ def plant_kernel(E: Any, C: Any, p: Mapping[str, Any]) -> dict[str, Any]:
         "margin": margin,
         "full": before_margin + margin,
         "energy_kWh_per_kWh": energy_kWh,
-        "materials factor electrode": k_el - p["scrap_credit"] * (k_el - 1.0),
-        "materials factor other": k_asm - p["scrap_credit"] * (k_asm - 1.0),
-        "margin factor": 1.0 + p["margin_fraction"],
     }
+
+
+def materials_factors(p: Mapping[str, Any]) -> tuple[Any, Any, Any]:
+    """``(electrode, other, margin)``: d(full)/d(E) = electrode x margin and
+    d(full)/d(C) = other x margin (yields and scrap credit; the plant's
+    conversion lines do not depend on the materials)."""
+    k_form = 1.0 / p["formation_yield"]
+    k_asm = k_form / p["assembly_yield"]
+    k_el = k_asm / p["electrode_yield"]
+    s = p["scrap_credit"]
+    return k_el - s * (k_el - 1.0), k_asm - s * (k_asm - 1.0), 1.0 + p["margin_fraction"]
 
 
 @dataclass(frozen=True)

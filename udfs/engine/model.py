@@ -41,6 +41,7 @@ from udfs.xlsx.file_errors import WorkbookError
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
 from udfs.xlsx.reader import WorkbookData, read_workbook
 from udfs.xlsx.refs import CellRef, col_letters, parse_cell
+from udfs.xlsx.writer import Edit, write_live
 
 from .evaluator import Evaluator, Result, engine_value
 from .fallback import calculate_whole
@@ -184,6 +185,7 @@ class WorkbookModel:
         self.static_diagnostics = [_note(n) for n in self.report.notes]
         self._diagnose()
         self.named_cells = self._read_names()
+        self.restored_from_values = False  # set when a values-only copy got its formulas back
         self.build_seconds = time.perf_counter() - t0
 
     # ------------------------------------------------------------------ reading
@@ -306,6 +308,32 @@ class WorkbookModel:
                 out.update(self.ref_of(k) for k in u.cell_keys())
         return out
 
+    def constants_read(self, limit: int = 10_000) -> list[Key]:
+        """Constant cells that formulas read (at most ``limit`` + 1: more means more)."""
+        rects: set[tuple[int, int, int, int, int]] = set()
+        for u in self.plan.units:
+            for slot in u.structure.refs:
+                rect = u.reach(slot) if slot.kind == "ref" else None
+                if rect is not None:
+                    rects.add(rect)
+        out: dict[Key, None] = {}
+        for s, r1, c1, r2, c2 in sorted(rects):
+            values = self.sheets[s].values
+            if (r2 - r1 + 1) * (c2 - c1 + 1) <= len(values):
+                found = (
+                    (s, r, c)
+                    for r in range(r1, r2 + 1)
+                    for c in range(c1, c2 + 1)
+                    if (r, c) in values
+                )
+            else:
+                found = ((s, r, c) for (r, c) in values if r1 <= r <= r2 and c1 <= c <= c2)
+            for key in found:
+                out[key] = None
+                if len(out) > limit:
+                    return list(out)
+        return list(out)
+
     def explain(self, key: Key, err: CellValue) -> str:
         """A message for an error cell that has none of its own."""
         text = self.formula_text(self.ref_of(key)) or ""
@@ -413,10 +441,8 @@ class WorkbookModel:
             return found
         data = self.data
         if changes:
-            from udfs.xlsx.writer import write_results
-
-            values = {self.ref_of(k): to_cell(v) for k, v in changes.items()}
-            data = write_results(self.package, values, set(), "all")
+            edits = {self.ref_of(k): Edit(to_cell(v)) for k, v in changes.items()}
+            data = write_live(self.package, edits)
         computed = calculate_whole(data, self.sheet_names, self.book.iterate)
         values_by_key: dict[Key, Any] = {}
         for s in self.sheets:

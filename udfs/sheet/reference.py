@@ -19,6 +19,8 @@ from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
+from udfs.core.caution import CAUTION
+
 from .declare import Kind, Plan, Section
 from .error_values import SheetError
 from .registry import CATALOGUE_ORDER, PLANS
@@ -36,10 +38,6 @@ __all__ = [
 START = "<!-- functions:start -->"
 END = "<!-- functions:end -->"
 
-CAUTION = (
-    "Results are estimates for design and costing studies; follow the applicable standards, "
-    "local codes and qualified engineers for anything built, shipped or operated."
-)
 
 
 def sections() -> Iterator[tuple[str, list[Plan]]]:
@@ -109,7 +107,7 @@ def render_text() -> str:
             if ex:
                 lines.append(f"    e.g. {ex}")
             lines.append("")
-    lines += [CONVENTIONS_TEXT, "", "Caution: " + CAUTION]
+    lines += [CONVENTIONS_TEXT, "", CAUTION]
     return "\n".join(lines) + "\n"
 
 

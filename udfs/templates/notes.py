@@ -10,15 +10,12 @@ from openpyxl.styles import Font, Protection
 from openpyxl.workbook.workbook import Workbook
 from openpyxl.worksheet.worksheet import Worksheet
 
+from udfs.core.caution import CAUTION
+
 from .layout import PALETTE, Columns, SheetWriter, finish_sheet, style
 
 __all__ = ["CAUTION", "REFERENCES", "legend", "write_notes"]
 
-CAUTION = (
-    "Caution: estimates from a simplified model, for studies only. Cells, electrolysers and "
-    "plating lines can burn, vent toxic or flammable gas and give dangerous shocks. Follow the "
-    "applicable standards and local codes, and have qualified engineers check any design."
-)
 
 #: Short keys (as cited in data/ and tests) and the works they stand for.
 REFERENCES: tuple[tuple[str, str], ...] = (

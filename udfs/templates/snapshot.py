@@ -45,6 +45,19 @@ def _cell_value(value: Any) -> Any:
     return repr(value)
 
 
+def _array_results(ws: Any) -> set[str]:
+    """Cells an array formula fills besides its own cell: computed results, not content."""
+    out: set[str] = set()
+    for row in ws.iter_rows():
+        for cell in row:
+            if isinstance(cell.value, ArrayFormula):
+                for line in ws[cell.value.ref.replace("$", "")]:
+                    for member in line if isinstance(line, tuple) else (line,):
+                        if member.coordinate != cell.coordinate:
+                            out.add(member.coordinate)
+    return out
+
+
 def snapshot(wb: Workbook) -> dict[str, Any]:
     """The content of ``wb`` as plain data (see the module docstring)."""
     out: dict[str, Any] = {"sheets": [(ws.title, ws.sheet_state) for ws in wb.worksheets]}
@@ -53,10 +66,11 @@ def snapshot(wb: Workbook) -> dict[str, Any]:
     for ws in wb.worksheets:
         cells = {}
         unlocked = []
+        results = _array_results(ws)
         for row in ws.iter_rows():
             for cell in row:
                 value = _cell_value(cell.value)
-                if value is not None:
+                if value is not None and cell.coordinate not in results:
                     cells[cell.coordinate] = value
                 if cell.has_style and not cell.protection.locked:
                     unlocked.append(cell.coordinate)

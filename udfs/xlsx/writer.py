@@ -1,25 +1,23 @@
-"""Write results into a copy of the workbook package, byte-for-byte elsewhere.
+"""Write results into a copy of the workbook package, byte for byte elsewhere.
 
-How results are made visible: the output is the input package with only
-these changes, made directly in the sheet XML (openpyxl never re-saves the
-workbook, so charts, images, pivot tables, data validation extensions, VBA
-and every other part survive unchanged):
+The output is the input package with only these changes, made directly in the
+sheet XML (openpyxl never re-saves the workbook, so charts, images, pivot
+tables, data-validation extensions, VBA and every other part survive):
 
-* ``mode="portable"`` (the default of ``cellwright calc``): cells whose
-  formula calls one of our functions (or a function the engine does not know)
-  hold their computed value as a plain value, so every spreadsheet program
-  shows it; formulas of Excel's own functions are kept, with their computed
-  value stored as the cached value (``<v>``), so the arithmetic stays live and
-  auditable and programs that recompute get the same numbers;
-* ``mode="all"``: every formula is kept with its cached value -- for Excel with
-  the cellwright add-in. (LibreOffice shows cached values of plain formulas
-  but recomputes array formulas and error cells, which then show #NAME?.);
-* ``mode="none"``: no formulas at all, values only;
-* cells set with ``--set`` get their new value; cells of array formulas get
-  theirs too, created if missing;
-* ``fullCalcOnLoad`` is removed from ``calcPr`` so programs show the stored
-  values on open, and when formulas are removed the calculation chain
-  (``calcChain.xml``, an optional cache Excel rebuilds) is dropped with them.
+* :func:`write_live` -- the workbook stays a model: every formula is kept and
+  its computed value stored as the cell's cached value (``<v>``), so every
+  program shows the numbers on open, Excel with the add-in recalculates live,
+  and programs without it show the values until an input changes; cells set
+  with ``--set`` hold their new value; ``calcPr`` no longer forces a full
+  recalculation on load and names the current calculation engine
+  (:data:`CALC_ID`), so Excel does not recompute everything on open;
+* :func:`write_values` -- the plain-values copy: formulas replaced by their
+  values (see :mod:`udfs.xlsx.values_copy` for the sheets that label it and the
+  formulas it keeps for restoring);
+* cells that were not evaluated (:class:`Edit` never given for them) keep
+  their formula and cached value in every mode; a filled-down (shared) formula
+  whose master cell loses its formula gives its other cells their own text,
+  so the file stays valid.
 
 >>> escape("a<b & \\x01")
 'a&lt;b &amp; _x0001_'
@@ -40,7 +38,12 @@ from .file_errors import WorkbookError
 from .package import Package, rels_path
 from .refs import CellRef, col_index, col_letters
 
-__all__ = ["MODES", "escape", "write_results"]
+__all__ = ["CALC_ID", "KEEP", "Edit", "escape", "patch_sheet", "write_live", "write_values"]
+
+#: The calculation-engine id current Excel versions write (from memory; an older id
+#: makes Excel recalculate every formula on open, a newer one is the same as current).
+CALC_ID = "191029"
+KEEP = object()  # Edit.value: leave the cell's value as it is
 
 _ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
 _ATTRS = r"(?P<attrs>(?:[^>\"'/]|\"[^\"]*\"|'[^']*'|/(?!>))*)"
@@ -59,9 +62,21 @@ _CELL = re.compile(
 _FORMULA = re.compile(
     r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)f\b" + _ATTRS + r"(?:/>|>.*?</(?P=p)f>)", re.S
 )
+_VALUE = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)v\b[^>]*(?:/>|>(?P<text>.*?)</(?P=p)v>)", re.S)
 _EXTLST = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)extLst\b.*?</(?P=p)extLst>", re.S)
 _CALCPR = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)calcPr\b" + _ATTRS + r"/?>", re.S)
+_PROLOG_ENCODING = re.compile(r"^(<\?xml[^>]*?encoding=)([\"'])[^\"']*\2")
 _REF = re.compile(r"^([A-Z]{1,3})([0-9]+)$")
+
+
+@dataclass(frozen=True)
+class Edit:
+    """What to do to one cell: its new ``value`` (or :data:`KEEP`), and its formula:
+    None keeps it, "" removes it, text (with "=") sets it (``array``: its range)."""
+
+    value: object = KEEP
+    formula: str | None = None
+    array: str | None = None
 
 
 def escape(text: str) -> str:
@@ -139,11 +154,29 @@ def _parse_rows(body: str) -> tuple[list[_Row], str]:
     return rows, tail
 
 
-def _cell_xml(old: str | None, p: str, ref: str, value: CellValue, keep_formula: bool) -> str:
-    """The new XML of one cell (old XML or None when the cell does not exist yet)."""
+def _cached_text(body: str, t: str | None) -> CellValue:
+    """The cached value written in a cell's XML (for cells whose formula goes)."""
+    vm = _VALUE.search(body)
+    text = vm.group("text") if vm else None
+    if text is None:
+        return None
+    if t in ("str", "s"):
+        return None if t == "s" else text  # a shared string index is kept as it is
+    if t == "b":
+        return text.strip() in ("1", "true")
+    if t == "e":
+        return SheetError(text.strip())
+    try:
+        return float(text)
+    except ValueError:
+        return text
+
+
+def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
+    """The new XML of one cell (``old`` XML, or None when the cell does not exist yet)."""
     attrs = f' r="{ref}"'
-    formula = ""
-    ext = ""
+    formula = child = ext = ""
+    t: str | None = None
     if old is not None:
         m = _CELL.match(old)
         assert m is not None
@@ -153,47 +186,40 @@ def _cell_xml(old: str | None, p: str, ref: str, value: CellValue, keep_formula:
         formula = fm.group(0) if fm else ""
         em = _EXTLST.search(body)
         ext = em.group(0) if em else ""
-        attrs = _set_attr(attrs, "vm", None)
-    if not keep_formula:
+        t = _attr(attrs, "t")
+        child = _FORMULA.sub("", _EXTLST.sub("", body))
+    if edit.formula == "":
         formula = ""
-        attrs = _set_attr(attrs, "cm", None)
-    t, child = _value_xml(value, p, bool(formula))
-    attrs = _set_attr(attrs, "t", t)
+        attrs = _set_attr(_set_attr(attrs, "cm", None), "vm", None)
+    elif edit.formula is not None:
+        extra = f' t="array" ref="{edit.array}"' if edit.array else ""
+        formula = f"<{p}f{extra}>{escape(edit.formula.removeprefix('='))}</{p}f>"
+    value = edit.value
+    if value is KEEP:
+        if formula or t != "str":
+            return (
+                f"<{p}c{attrs}>{formula}{child}{ext}</{p}c>"
+                if formula or child or ext
+                else f"<{p}c{attrs}/>"
+            )
+        value = _cached_text(child, t)  # a formula's text result becomes plain text
+    t_new, child = _value_xml(value, p, bool(formula))  # type: ignore[arg-type]
+    attrs = _set_attr(attrs, "t", t_new)
     inner = formula + child + ext
     return f"<{p}c{attrs}>{inner}</{p}c>" if inner else f"<{p}c{attrs}/>"
 
 
-def _strip_formula(old: str) -> str:
-    m = _CELL.match(old)
-    if m is None or not m.group("body"):
-        return old
-    body = _FORMULA.sub("", m.group("body"))
-    attrs = _set_attr(m.group("attrs"), "cm", None)
-    t = _attr(attrs, "t")
-    if t == "str":  # cached text of a formula: keep it as inline text
-        vm = re.search(r"<(?:[\w.-]+:)?v>(.*?)</(?:[\w.-]+:)?v>", body, re.S)
-        text = vm.group(1) if vm else ""
-        p = m.group("p")
-        attrs = _set_attr(attrs, "t", "inlineStr")
-        body = f'<{p}is><{p}t xml:space="preserve">{text}</{p}t></{p}is>'
-    return f"<{m.group('p')}c{attrs}>{body}</{m.group('p')}c>"
-
-
-def _patch_sheet(
-    xml: str,
-    values: Mapping[tuple[int, int], CellValue],
-    keep: set[tuple[int, int]],
-    values_only: bool,
-) -> str:
+def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
+    """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched."""
     m = _SHEETDATA.search(xml)
     if m is None:
         raise WorkbookError("damaged sheet: no sheetData")
     p = m.group("p")
     rows, tail = _parse_rows(m.group("body") or "")
     by_number = {r.number: r for r in rows}
-    todo: dict[int, dict[int, CellValue]] = {}
-    for (r, c), v in values.items():
-        todo.setdefault(r, {})[c] = v
+    todo: dict[int, dict[int, Edit]] = {}
+    for (r, c), e in edits.items():
+        todo.setdefault(r, {})[c] = e
     for number, cols in todo.items():
         row = by_number.get(number)
         if row is None:
@@ -201,16 +227,11 @@ def _patch_sheet(
             by_number[number] = row
             rows.append(row)
         existing = dict(row.cells)
-        for c, v in cols.items():
+        for c, e in cols.items():
             ref = f"{col_letters(c)}{number}"
-            existing[c] = _cell_xml(existing.get(c), row.prefix, ref, v, (number, c) in keep)
+            existing[c] = _cell_xml(existing.get(c), row.prefix, ref, e)
         row.cells = sorted(existing.items())
         row.raw = False
-    if values_only:
-        for row in rows:
-            stripped = [(c, _strip_formula(x)) for c, x in row.cells]
-            if stripped != row.cells:
-                row.cells, row.raw = stripped, False
     rows.sort(key=lambda r: r.number)
     parts = []
     for row in rows:
@@ -230,28 +251,32 @@ def _patch_sheet(
 
 
 def _patch_calc_pr(xml: str) -> str:
+    """No full recalculation forced on load; the current calculation engine's id."""
+
     def fix(m: re.Match[str]) -> str:
         attrs = _set_attr(m.group("attrs"), "fullCalcOnLoad", None)
+        attrs = _set_attr(attrs, "calcId", CALC_ID)
         return f"<{m.group('p')}calcPr{attrs.rstrip()}/>"
 
     return _CALCPR.sub(fix, xml, count=1)
 
 
-def _drop_calc_chain(parts: dict[str, bytes], pkg: Package) -> None:
+def drop_calc_chain(parts: dict[str, bytes | None], pkg: Package) -> None:
+    """Leave out the calculation chain (an optional cache Excel rebuilds)."""
     chain = next(
         (t for rt, t, _ in pkg.relationships(pkg.workbook_part).values() if rt == "/calcChain"),
         None,
     )
     if chain is None:
         return
-    parts[chain] = b""  # marker: omit from the output
-    ct = parts.get("[Content_Types].xml", pkg.zip.read("[Content_Types].xml")).decode("utf-8")
+    parts[chain] = None
+    ct = text_of(parts, pkg, "[Content_Types].xml")
     ct = re.sub(
         r"<(?:[\w.-]+:)?Override\b[^>]*PartName=\"/" + re.escape(chain) + r"\"[^>]*/>", "", ct
     )
     parts["[Content_Types].xml"] = ct.encode("utf-8")
     rels_name = rels_path(pkg.workbook_part)
-    rels = pkg.zip.read(rels_name).decode("utf-8")
+    rels = text_of(parts, pkg, rels_name)
     target = chain.rpartition("/")[2]
     rels = re.sub(
         r"<(?:[\w.-]+:)?Relationship\b[^>]*Target=\"[^\"]*" + re.escape(target) + r"\"[^>]*/>",
@@ -261,61 +286,85 @@ def _drop_calc_chain(parts: dict[str, bytes], pkg: Package) -> None:
     parts[rels_name] = rels.encode("utf-8")
 
 
-def _decode(raw: bytes, part: str) -> str:
+def text_of(parts: Mapping[str, bytes | None], pkg: Package, part: str) -> str:
+    """A part's text as it will be written (changed earlier, or as in the package);
+    UTF-16 parts are read and written back as UTF-8 with a matching declaration."""
+    raw = parts.get(part)
+    if raw is None:
+        raw = pkg.zip.read(part)
     try:
-        return raw.decode("utf-8")
+        text = raw.decode("utf-8")
     except UnicodeDecodeError:
         try:
-            return raw.decode("utf-16")
+            text = raw.decode("utf-16")
         except UnicodeDecodeError:
             raise WorkbookError(f"damaged part {part}: not UTF-8 or UTF-16 text") from None
+    text = text.lstrip("\ufeff")
+    return _PROLOG_ENCODING.sub(r"\1\2UTF-8\2", text, count=1)
 
 
-MODES = ("portable", "all", "none")
+def sheet_edits(
+    values: Mapping[CellRef, Edit], sheet: str
+) -> dict[tuple[int, int], Edit]:
+    return {(r.row, r.col): e for r, e in values.items() if r.sheet == sheet}
 
 
-def write_results(
-    pkg: Package,
-    values: Mapping[CellRef, CellValue],
-    keep: set[CellRef],
-    mode: str = "portable",
-) -> bytes:
-    """The bytes of a new .xlsx: ``pkg`` with ``values`` written in (see module doc).
-
-    ``keep`` are the cells whose formula stays in ``"portable"`` mode (the
-    other cells of ``values`` become plain values); ``"all"`` keeps every
-    formula, ``"none"`` none.
-    """
-    if mode not in MODES:
-        raise ValueError(f"mode must be one of {MODES}")
-    by_sheet: dict[str, dict[tuple[int, int], CellValue]] = {}
-    keep_by_sheet: dict[str, set[tuple[int, int]]] = {}
-    for ref, v in values.items():
-        by_sheet.setdefault(ref.sheet, {})[(ref.row, ref.col)] = v
-        if mode == "all" or (mode == "portable" and ref in keep):
-            keep_by_sheet.setdefault(ref.sheet, set()).add((ref.row, ref.col))
-    parts: dict[str, bytes] = {}
-    for sheet in pkg.worksheets():
-        cells = by_sheet.get(sheet.name, {})
-        if not cells and mode != "none":
-            continue
-        xml = _decode(pkg.zip.read(sheet.part), sheet.part)
-        xml = _patch_sheet(xml, cells, keep_by_sheet.get(sheet.name, set()), mode == "none")
-        parts[sheet.part] = xml.encode("utf-8")
-    wb_xml = _decode(pkg.zip.read(pkg.workbook_part), pkg.workbook_part)
-    parts[pkg.workbook_part] = _patch_calc_pr(wb_xml).encode("utf-8")
-    if mode != "all":
-        _drop_calc_chain(parts, pkg)
+def assemble(pkg: Package, parts: Mapping[str, bytes | None], extra: Mapping[str, bytes]) -> bytes:
+    """The new package: changed parts replaced, None parts left out, ``extra`` added."""
     out = io.BytesIO()
     with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as zf:
         for info in pkg.infos:
+            if info.filename in parts and parts[info.filename] is None:
+                continue
             data = parts.get(info.filename)
-            if data == b"" and info.filename in parts:
-                continue  # dropped part
             if data is None:
                 data = pkg.zip.read(info.filename)
             zi = zipfile.ZipInfo(info.filename, date_time=info.date_time)
             zi.compress_type = zipfile.ZIP_DEFLATED
             zi.external_attr = info.external_attr
             zf.writestr(zi, data)
+        stamp = pkg.infos[0].date_time if pkg.infos else (1980, 1, 1, 0, 0, 0)
+        for name, data in extra.items():
+            zi = zipfile.ZipInfo(name, date_time=stamp)
+            zi.compress_type = zipfile.ZIP_DEFLATED
+            zf.writestr(zi, data)
     return out.getvalue()
+
+
+def apply_edits(
+    pkg: Package, edits: Mapping[CellRef, Edit], parts: dict[str, bytes | None]
+) -> None:
+    """Make ``edits`` in the sheets' XML (into ``parts``)."""
+    for sheet in pkg.worksheets():
+        cells = sheet_edits(edits, sheet.name)
+        if cells:
+            xml = patch_sheet(text_of(parts, pkg, sheet.part), cells)
+            parts[sheet.part] = xml.encode("utf-8")
+
+
+def write_live(pkg: Package, edits: Mapping[CellRef, Edit]) -> bytes:
+    """The workbook with every formula kept and the ``edits`` (cached values, set inputs)
+    made; calculation settings that show the stored values on open."""
+    parts: dict[str, bytes | None] = {}
+    apply_edits(pkg, edits, parts)
+    parts[pkg.workbook_part] = _patch_calc_pr(text_of(parts, pkg, pkg.workbook_part)).encode(
+        "utf-8"
+    )
+    return assemble(pkg, parts, {})
+
+
+def write_values(
+    pkg: Package,
+    edits: Mapping[CellRef, Edit],
+    parts: dict[str, bytes | None] | None = None,
+    extra: Mapping[str, bytes] | None = None,
+) -> bytes:
+    """The workbook with the ``edits`` made (formulas removed where they say so), the
+    calculation chain left out, and ``parts``/``extra`` from the values-only labelling."""
+    parts = {} if parts is None else parts
+    apply_edits(pkg, edits, parts)
+    parts[pkg.workbook_part] = _patch_calc_pr(text_of(parts, pkg, pkg.workbook_part)).encode(
+        "utf-8"
+    )
+    drop_calc_chain(parts, pkg)
+    return assemble(pkg, parts, extra or {})
