@@ -1,41 +1,39 @@
-"""Headless engine: cold vs warm evaluation, LibreOffice, and sweeps (ratios in one run).
+"""Headless engine against LibreOffice, warm re-evaluation, and sweeps (ratios in one run).
 
-1. A workbook of about 1,500 formula cells (Excel's functions and ours) is
-   evaluated cold (fresh process state: read, check, compile, evaluate, write)
-   and warm (the compiled model cached by content hash; new input values
-   evaluated through the reduced, compiled model). Two warm cases: an input that
-   every formula depends on, and an input that one column depends on. The
-   baseline in the same run is the full `formulas` engine (CELLWRIGHT_FAST=0);
-   the default is the lean plan (udfs.engine.fast), which gives the same values.
-2. If ``soffice``/``libreoffice`` is on PATH: LibreOffice's headless
-   recalculation of the same workbook (xlsx -> xlsx, recalculation on load
-   forced in a private profile), end to end, against ``cellwright calc`` end to
-   end; and like-for-like on a native-only variant (no CW_ functions, which
-   LibreOffice cannot compute), whose results are also cross-checked.
-3. ``cellwright sweep --model core`` of 100,000 scenarios, end to end.
-4. Workbook sweeps: scenarios per second through the compiled model.
+1. **End to end against LibreOffice's headless recalculation**, in this run, on the
+   same files: benchmark workbooks of 1,500, 15,000 and 100,000 formula cells in two
+   forms -- filled-down blocks (5 formula columns filled down) and mostly distinct
+   formulas (each cell its own formula: random shapes of arithmetic, IF, ROUND,
+   MAX, MIN, ABS, SQRT and SUM over random earlier cells, random constants; no two
+   cells share a relative formula) -- and the 1,500 filled-down form with one named
+   constant and one whole-column lookup added. Native formulas only, so both
+   programs compute every cell; each file carries stale cached values (zeros), and
+   LibreOffice runs in a private profile that forces recalculation on load, which
+   the cross-check of every value proves. Times are wall-clock medians of fresh
+   processes; peak memory is each process's maximum resident set (GNU time).
+2. **Warm re-evaluation** after one input change, for each shipped template and the
+   15,000-cell filled-down workbook (the model read and planned once).
+3. **Workbook sweep** of the cell-sizing template (scenarios per second).
 
-Targets from the issue (reported, never asserted): cold/LibreOffice <= 1.0;
-warm < 50 ms and >= 20x faster than cold; core sweep of 100,000 < 2 s;
-workbook sweep >= 50 scenarios/s.
+Goals (reported, never asserted): calc/LibreOffice <= 1.0 at 1,500 and 15,000
+filled-down, <= 2.0 at 100,000; mostly distinct <= 1.5 at 1,500 and <= 3.0 at
+15,000; peak memory at most LibreOffice's; named-constant and whole-column
+variants within 1.2x of the plain 1,500 workbook; warm < 50 ms; sweep >= 300/s.
 
-Run: ``python benchmarks/bench_engine.py`` (prints; no assertions).
+Run: ``python benchmarks/bench_engine.py [--quick]`` (--quick: 1,500 and 15,000 only).
 """
 
 from __future__ import annotations
 
-import contextlib
-import io
-import os
+import argparse
+import random
 import shutil
 import statistics
 import subprocess
 import sys
 import tempfile
 import time
-from collections.abc import Callable
 from pathlib import Path
-from typing import Any
 
 import openpyxl
 from openpyxl.workbook.defined_name import DefinedName
@@ -43,360 +41,242 @@ from openpyxl.workbook.defined_name import DefinedName
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from udfs.app.calc import calculate_file  # noqa: E402
-from udfs.engine import model as model_mod  # noqa: E402
-from udfs.engine.model import clear_cache, load_model  # noqa: E402
+from udfs.engine.model import load_model  # noqa: E402
+from udfs.xlsx.writer import Edit, write_live  # noqa: E402
 
-ROWS = 295  # 5 formula columns x 295 rows + summary = about 1,500 formula cells
-ROUNDS = 7  # cold run + warm runs per round: this shared 2-core machine's speed wanders
-WARM_PER_ROUND = 5
-
-
-def build_workbook(ours: bool) -> bytes:
-    """The benchmark workbook; ``ours=False`` replaces CW_ calls by the same arithmetic."""
-    wb = openpyxl.Workbook()
-    inp = wb.active
-    inp.title = "Inputs"
-    values = [12.5, 1.5, 160.0, 3.65, 20.0, 4.0, 3.2, "LiFePO4", 0.96, 22.0]
-    for i, v in enumerate(values, start=1):
-        inp.cell(i, 2, v)
-    calc = wb.create_sheet("Calc")
-    for r in range(1, ROWS + 1):
-        calc[f"A{r}"] = f"=Inputs!$B$1*{r}/10+Inputs!$B$2"
-        if ours:
-            calc[f"B{r}"] = f"=CW_CAPACITY(A{r},Inputs!$B$3)"
-            calc[f"C{r}"] = f"=CW_ENERGY(B{r},Inputs!$B$4)"
-            calc[f"E{r}"] = f"=IFERROR(CW_ELECTRODE_AREA(B{r},Inputs!$B$7)/D{r},0)"
-        else:
-            calc[f"B{r}"] = f"=A{r}*Inputs!$B$3/1000"
-            calc[f"C{r}"] = f"=B{r}*Inputs!$B$4"
-            calc[f"E{r}"] = f"=IFERROR(B{r}*1000/Inputs!$B$7/D{r},0)"
-        calc[f"D{r}"] = f"=IF(C{r}>Inputs!$B$5,ROUNDUP(C{r}/Inputs!$B$6,0),MAX(C{r},Inputs!$B$6))"
-    summary = {
-        "G1": f"=SUM(C1:C{ROWS})",
-        "G2": f"=SUMPRODUCT(B1:B{ROWS},D1:D{ROWS})",
-        "G3": f"=MAX(E1:E{ROWS})",
-        "G4": f"=INDEX(A1:A{ROWS},MATCH(G3,E1:E{ROWS},0))",
-        "G5": "=AND(G1>0,G2>0)",
-        "G6": "=CW_MOLAR_MASS(Inputs!$B$8)" if ours else "=157.75",
-        "G7": f"=ROUND(AVERAGE(D1:D{ROWS}),2)",
-        "G8": "=Inputs!$B$6*2",
-    }
-    for ref, text in summary.items():
-        calc[ref] = text
-    for name, ref in (
-        ("total_energy_Wh", "Calc!$G$1"),
-        ("weighted", "Calc!$G$2"),
-        ("best_area", "Calc!$G$3"),
-        ("average_count", "Calc!$G$7"),
-        ("one_column", "Calc!$G$8"),
-    ):
-        wb.defined_names[name] = DefinedName(name, attr_text=ref)
-    buf = io.BytesIO()
-    wb.save(buf)
-    return buf.getvalue()
-
-
-def timed(fn: Callable[[], Any]) -> tuple[float, Any]:
-    t0 = time.perf_counter()
-    out = fn()
-    return time.perf_counter() - t0, out
-
-
-def run(cmd: list[str], cwd: Path | None = None) -> float:
-    t0 = time.perf_counter()
-    p = subprocess.run(cmd, capture_output=True, text=True, cwd=cwd, timeout=900)
-    dt = time.perf_counter() - t0
-    if p.returncode != 0:
-        raise RuntimeError(f"{' '.join(cmd[:4])}... failed: {p.stderr.strip()[-400:]}")
-    return dt
-
-
-def cold_and_warm(data: bytes, work: Path, fast: bool = True) -> dict[str, float]:
-    model_mod.FAST = fast
-    try:
-        return _cold_and_warm(data, work)
-    finally:
-        model_mod.FAST = True
-        clear_cache()
-
-
-def _cold_and_warm(data: bytes, work: Path) -> dict[str, float]:
-    """Rounds of one cold run then warm runs of the model it cached, so that both see
-    the machine in the same state; ratios are the median of the rounds' ratios."""
-    src = work / "bench.xlsx"
-    src.write_bytes(data)
-    colds: list[float] = []
-    warm: dict[str, list[float]] = {"warm_all": [], "warm_one_column": []}
-    ratios: dict[str, list[float]] = {"warm_all": [], "warm_one_column": []}
-    results: dict[str, float] = {}
-    report = None
-    for round_ in range(ROUNDS):
-        clear_cache()  # cold: no cached model (imports already done)
-        cold, report = timed(lambda: calculate_file(src, work / "cold-out.xlsx", force=True))
-        colds.append(cold)
-        model = load_model(data, "bench.xlsx")
-        if round_ == 0:
-            results["lean"] = float(model.fast)
-            results["formulas"] = model.formula_count
-            results["warm_same"] = timed(model.evaluate)[0]
-        for label, target in (("warm_all", "Inputs!B1"), ("warm_one_column", "Inputs!B6")):
-
-            def once(value: float, cell: str = target, m: Any = model) -> float:
-                return timed(lambda: m.evaluate({cell: value}))[0]
-
-            first = once(1.0)  # a full run; the model learns these input cells
-            compile_t = once(2.0)  # reduces the model to what the input reaches
-            times = [once(3.0 + i) for i in range(WARM_PER_ROUND)]
-            if round_ == 0:
-                results[f"{label}_first"] = first
-                results[f"{label}_compile"] = compile_t
-            warm[label] += times
-            ratios[label].append(cold / statistics.median(times))
-    assert report is not None
-    results["cold"] = statistics.median(colds)
-    for label in warm:
-        results[label] = statistics.median(warm[label])
-        results[f"{label}_ratio"] = statistics.median(ratios[label])
-    results["errors"] = len(report.evaluation.errors())
-    return results
-
-
-def find_office() -> str | None:
-    return shutil.which("soffice") or shutil.which("libreoffice")
-
-
+COLUMNS = 5
 RECALC_PROFILE = """<?xml version="1.0" encoding="UTF-8"?>
 <oor:items xmlns:oor="http://openoffice.org/2001/registry"
  xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
 <item oor:path="/org.openoffice.Office.Calc/Formula/Load">
 <prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load">
-<prop oor:name="ODFRecalcMode" oor:op="fuse"><value>0</value></prop></item>
 </oor:items>
 """
 
 
-def office_times(office: str, work: Path, files: dict[str, Path]) -> dict[str, float]:
+def filled(n_formulas: int, extra: str = "") -> openpyxl.Workbook:
+    """5 formula columns filled down over constant inputs (``extra``: "name", "column")."""
+    rows = n_formulas // COLUMNS
+    wb = openpyxl.Workbook()
+    inp = wb.active
+    inp.title = "Inputs"
+    for i, v in enumerate([12.5, 1.5, 160.0, 3.65, 20.0, 4.0], start=1):
+        inp.cell(i, 2, v)
+    calc = wb.create_sheet("Calc")
+    for r in range(1, rows + 1):
+        calc[f"A{r}"] = (r % 97) * 0.5 + 1.0
+        calc[f"B{r}"] = f"=A{r}*Inputs!$B$1/10+Inputs!$B$2"
+        calc[f"C{r}"] = f"=B{r}*Inputs!$B$3/1000"
+        calc[f"D{r}"] = f"=C{r}*Inputs!$B$4"
+        calc[f"E{r}"] = f"=IF(D{r}>Inputs!$B$5,ROUNDUP(D{r}/Inputs!$B$6,0),ABS(D{r}-1))"
+        calc[f"F{r}"] = f"=IFERROR(C{r}*1000/E{r},0)"
+    if extra == "name":
+        wb.defined_names["rate"] = DefinedName("rate", attr_text="1.07")
+        calc["H1"] = f"=SUM(D1:D{rows})*rate"
+    elif extra == "column":
+        inp["D1"], inp["E1"] = 1.0, 11.0
+        inp["D2"], inp["E2"] = 2.0, 22.0
+        calc["H1"] = "=VLOOKUP(2,Inputs!D:E,2,FALSE)+SUM(Calc!B:B)"
+    return wb
+
+
+def distinct(n_formulas: int, seed: int = 7) -> openpyxl.Workbook:
+    """Mostly distinct formulas: every cell its own formula (random shape, refs, numbers)."""
+    rng = random.Random(seed)  # fixed seed: the same workbook every run
+    rows = n_formulas // COLUMNS
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Calc"
+    for r in range(1, rows + 1):
+        ws[f"A{r}"] = round(rng.uniform(0.5, 50.0), 3)
+
+    def ref(r: int, c: int) -> str:
+        rr = rng.randint(max(1, r - 40), r) if c > 2 else rng.randint(1, r)
+        col = "A" if rr == r or rng.random() < 0.4 else "ABCDEF"[rng.randint(0, c - 2)]
+        return f"{col}{rr}"
+
+    def num() -> str:
+        return f"{rng.uniform(0.1, 9.9):.{rng.randint(1, 3)}f}"
+
+    def term(r: int, c: int, depth: int) -> str:
+        pick = rng.random()
+        if depth == 0 or pick < 0.35:
+            return ref(r, c) if rng.random() < 0.7 else num()
+        a, b = term(r, c, depth - 1), term(r, c, depth - 1)
+        if pick < 0.55:
+            return f"({a}{rng.choice('+-*')}{b})"
+        if pick < 0.65:
+            return f"IF({a}>{num()},{b},{a})"
+        if pick < 0.73:
+            return f"ROUND({a},{rng.randint(0, 3)})"
+        if pick < 0.81:
+            return f"{rng.choice(['MAX', 'MIN'])}({a},{b})"
+        if pick < 0.88:
+            return f"SQRT(ABS({a}))"
+        top = max(1, r - rng.randint(2, 6))
+        return f"SUM(A{top}:A{r})*{num()}"
+
+    for r in range(1, rows + 1):
+        for c in range(2, COLUMNS + 2):
+            ws.cell(r, c, "=" + term(r, c, rng.randint(1, 3)))
+    return wb
+
+
+def stale_file(wb: openpyxl.Workbook, path: Path) -> int:
+    """Save ``wb`` with every formula's cached value set to 0 (stale); its formula count."""
+    tmp = path.with_suffix(".plain.xlsx")
+    wb.save(tmp)
+    model = load_model(tmp.read_bytes(), tmp.name)
+    edits = {model.ref_of(k): Edit(0.0) for k in model.formula_keys}
+    path.write_bytes(write_live(model.package, edits))
+    tmp.unlink()
+    return model.formula_count
+
+
+def timed_run(cmd: list[str], cwd: Path) -> tuple[float, float]:
+    """(seconds, peak MiB) of a command in a fresh process (GNU time's maximum RSS)."""
+    full = ["/usr/bin/time", "-f", "%M", *cmd]
+    t0 = time.perf_counter()
+    p = subprocess.run(full, capture_output=True, text=True, cwd=cwd, timeout=3600)
+    dt = time.perf_counter() - t0
+    if p.returncode != 0:
+        raise RuntimeError(f"{' '.join(cmd[:4])} failed: {p.stderr.strip()[-400:]}")
+    peak_kib = int(p.stderr.strip().splitlines()[-1])
+    return dt, peak_kib / 1024
+
+
+def median_run(cmd: list[str], cwd: Path, repeats: int) -> tuple[float, float]:
+    runs = [timed_run(cmd, cwd) for _ in range(repeats)]
+    return statistics.median(r[0] for r in runs), max(r[1] for r in runs)
+
+
+def cross_check(ours: Path, office: Path, sheet: str = "Calc") -> str:
+    a = openpyxl.load_workbook(ours, data_only=True)[sheet]
+    b = openpyxl.load_workbook(office, data_only=True)[sheet]
+    worst, n = 0.0, 0
+    for row_a, row_b in zip(a.iter_rows(), b.iter_rows(), strict=False):
+        for ca, cb in zip(row_a, row_b, strict=False):
+            x, y = ca.value, cb.value
+            if isinstance(x, (int, float)) and isinstance(y, (int, float)):
+                n += 1
+                worst = max(worst, abs(x - y) / max(abs(y), 1e-300))
+            elif x != y:
+                return f"differ at {ca.coordinate}: cellwright {x!r}, LibreOffice {y!r}"
+    return f"{n:,} numbers agree (largest relative difference {worst:.1e})"
+
+
+def section_office(work: Path, quick: bool) -> None:
+    office = shutil.which("soffice") or shutil.which("libreoffice")
+    print("1. End to end: cellwright calc against LibreOffice's forced headless recalculation")
+    if office is None:
+        print("   LibreOffice is not installed (apt-get install libreoffice-calc-nogui): skipped")
+        return
     profile = work / "lo-profile"
     (profile / "user").mkdir(parents=True, exist_ok=True)
     (profile / "user" / "registrymodifications.xcu").write_text(RECALC_PROFILE)
-    base = [office, "--headless", "--norestore", f"-env:UserInstallation=file://{profile}"]
-    tiny = work / "tiny.xlsx"
-    wb = openpyxl.Workbook()
-    wb.active["A1"] = "=1+1"
-    wb.save(tiny)
-    out_dir = work / "lo-out"
-    convert = [*base, "--convert-to", "xlsx", "--outdir", str(out_dir)]
-    run([*convert, str(tiny)])  # first start creates the profile: not timed
-    res = {"startup": statistics.median(run([*convert, str(tiny)]) for _ in range(3))}
-    for label, path in files.items():
-        res[label] = statistics.median(run([*convert, str(path)]) for _ in range(3))
-    return res
+    lo = [office, "--headless", "--norestore", f"-env:UserInstallation=file://{profile}",
+          "--convert-to", "xlsx", "--outdir", str(work / "lo")]
+    sizes = [1_500, 15_000] if quick else [1_500, 15_000, 100_000]
+    cases: list[tuple[str, openpyxl.Workbook]] = []
+    for n in sizes:
+        cases.append((f"filled {n:,}", filled(n)))
+    for n in sizes[:2]:
+        cases.append((f"distinct {n:,}", distinct(n)))
+    cases.append(("filled 1,500 + named constant", filled(1_500, "name")))
+    cases.append(("filled 1,500 + whole-column lookup", filled(1_500, "column")))
+    subprocess.run([*lo, str(work / "none.xlsx")], capture_output=True, timeout=600)  # profile
+    print(f"   {'workbook':<36}{'formulas':>9}{'calc s':>8}{'LO s':>8}{'ratio':>7}"
+          f"{'calc MiB':>10}{'LO MiB':>8}   values")
+    plain_1500 = None
+    for label, wb in cases:
+        src = work / (label.replace(" ", "_").replace(",", "").replace("+", "") + ".xlsx")
+        count = stale_file(wb, src)
+        out = work / "out" / src.name
+        out.parent.mkdir(exist_ok=True)
+        repeats = 1 if count >= 100_000 else 3
+        calc = [sys.executable, "-m", "udfs.cli", "calc", str(src), "-o", str(out), "--force"]
+        ours, ours_mib = median_run(calc, ROOT, repeats)
+        theirs, lo_mib = median_run([*lo, str(src)], work, repeats)
+        check = cross_check(out, work / "lo" / src.name)
+        print(f"   {label:<36}{count:>9,}{ours:>8.2f}{theirs:>8.2f}{ours / theirs:>7.2f}"
+              f"{ours_mib:>10.0f}{lo_mib:>8.0f}   {check}")
+        if label == "filled 1,500":
+            plain_1500 = ours
+        elif label.startswith("filled 1,500 +") and plain_1500:
+            print(f"      against the plain 1,500 workbook: {ours / plain_1500:.2f}x (goal <= 1.2)")
 
 
-def cross_check(work: Path, native: Path) -> str:
-    """LibreOffice's results of the native workbook against the engine's."""
-    lo = openpyxl.load_workbook(work / "lo-out" / native.name, data_only=True)["Calc"]
-    ev = load_model(native.read_bytes(), native.name).evaluate()
-    worst = 0.0
-    for r in range(1, ROWS + 1):
-        for c in "ABCDE":
-            a, b = lo[f"{c}{r}"].value, ev.value(f"Calc!{c}{r}")
-            if not isinstance(a, (int, float)) or not isinstance(b, (int, float)):
-                return f"cell Calc!{c}{r}: LibreOffice {a!r}, engine {b!r}"
-            worst = max(worst, abs(a - b) / max(abs(b), 1e-300))
-    return f"all {5 * ROWS} cells agree (largest relative difference {worst:.1e})"
-
-
-def core_sweep(work: Path) -> tuple[float, int]:
-    out = work / "core.csv"
-    cmd = [
-        sys.executable,
-        "-m",
-        "udfs.cli",
-        "sweep",
-        "--model",
-        "core",
-        "--vary",
-        "target_capacity_Ah=40:79.9:0.1",
-        "--vary",
-        "np_ratio=1.05:1.299:0.001",
-        "--out",
-        str(out),
-        "--force",
+def section_warm() -> None:
+    print("2. Warm re-evaluation after one input change (model read and planned once)")
+    cases = [
+        (ROOT / "workbook_templates" / "cell_sizing.xlsx", "in_np_ratio", [1.15, 1.2, 1.25]),
+        (ROOT / "workbook_templates" / "potentials.xlsx", None, []),
+        (ROOT / "workbook_templates" / "electrolysis.xlsx", None, []),
     ]
-    dt = run(cmd, cwd=ROOT)
-    rows = sum(1 for _ in out.open()) - 1
-    return dt, rows
+    for path, target, values in cases:
+        model = load_model(path.read_bytes(), path.name)
+        model.evaluate()
+        if target is None:
+            named = [n for n, r in model.named_cells.items() if not model.is_formula(r)]
+            numeric = [
+                n for n in named if isinstance(model.constant(model.named_cells[n]), float)
+            ]
+            target = numeric[0]
+            base = model.constant(model.named_cells[target])
+            assert isinstance(base, float)
+            values = [base * 1.01, base * 1.02, base * 1.03]
+        times = []
+        for v in values * 5:
+            t0 = time.perf_counter()
+            model.evaluate({target: v})
+            times.append(time.perf_counter() - t0)
+        print(f"   {path.name:<22} {target:<20} median {1e3 * statistics.median(times[3:]):6.1f} ms"
+              f" (goal < 50 ms)")
+    wb = filled(15_000)
+    with tempfile.TemporaryDirectory() as tmp:
+        p = Path(tmp) / "f.xlsx"
+        wb.save(p)
+        model = load_model(p.read_bytes(), p.name)
+    model.evaluate()
+    times = []
+    for v in [12.0, 12.5, 13.0, 13.5, 14.0, 14.5, 15.0]:
+        t0 = time.perf_counter()
+        model.evaluate({"Inputs!B1": v})
+        times.append(time.perf_counter() - t0)
+    print(f"   {'filled 15,000':<22} {'Inputs!B1 (all)':<20} median "
+          f"{1e3 * statistics.median(times[2:]):6.1f} ms (goal < 50 ms)")
 
 
-def startup(code: str) -> float:
-    """Python start plus the given imports, in a fresh process (median of 3)."""
-    return statistics.median(run([sys.executable, "-c", code], cwd=ROOT) for _ in range(3))
-
-
-CALC_IMPORTS = (
-    "import udfs.cli, udfs.engine.model, udfs.engine.functions as a; a.ensure_registered()"
-)
-CORE_IMPORTS = "import udfs.cli, udfs.app.sweep, udfs.core.sizing, udfs.app.demo"
-
-
-def workbook_sweep(
-    data: bytes, name: str, target: str, output: str, n: int, fast: bool = True
-) -> tuple[float, float]:
-    """(seconds of the first scenario, scenarios per second after it)."""
-    model_mod.FAST = fast
-    try:
-        return _workbook_sweep(data, name, target, output, n)
-    finally:
-        model_mod.FAST = True
-        clear_cache()
-
-
-def _workbook_sweep(
-    data: bytes, name: str, target: str, output: str, n: int
-) -> tuple[float, float]:
-    clear_cache()
-    model = load_model(data, name)
-    scenario = model.scenario_function([target], [output])
-    first, _ = timed(lambda: scenario(1.0))
-    values = [1.0 + 0.01 * (i + 1) for i in range(n)]
-    rest, _ = timed(lambda: [scenario(v) for v in values])
-    return first, n / rest
+def section_sweep() -> None:
+    print("3. Workbook sweep of the cell-sizing template")
+    data = (ROOT / "workbook_templates" / "cell_sizing.xlsx").read_bytes()
+    model = load_model(data, "cell_sizing.xlsx")
+    outs = ["out_cost_per_kWh_USD", "out_Wh_kg", "out_Wh_L"]
+    for target in ("in_np_ratio", "in_loading"):
+        run = model.scenario_function([target], outs)
+        run(1.1 if target == "in_np_ratio" else 20.0)
+        values = [1.05 + 0.001 * i for i in range(300)] if target == "in_np_ratio" else [
+            15.0 + 0.05 * i for i in range(300)
+        ]
+        t0 = time.perf_counter()
+        for v in values:
+            run(v)
+        rate = len(values) / (time.perf_counter() - t0)
+        print(f"   {target:<20} -> {', '.join(outs)}: {rate:7.0f} scenarios/s (goal >= 300)")
 
 
 def main() -> None:
-    work = Path(tempfile.mkdtemp(prefix="cw-bench-"))
-    ours = build_workbook(ours=True)
-    native = build_workbook(ours=False)
-    (work / "ours.xlsx").write_bytes(ours)
-    (work / "native.xlsx").write_bytes(native)
-    load_model(native, "warm-up.xlsx").evaluate()  # imports and registry, not timed
-    with contextlib.suppress(OSError):
-        load = ", ".join(f"{x:.2f}" for x in os.getloadavg())
-        print(f"(load average of the machine over 1, 5, 15 min: {load}; 2 cores)")
-
-    print(
-        f"1. Cold vs warm evaluation (in process, after Python start-up and imports; {ROUNDS}"
-        f" rounds of a cold run without a cached model, then {WARM_PER_ROUND} warm runs each;"
-        f" cold/warm is the median of the rounds' ratios)"
-    )
-    base = cold_and_warm(ours, work, fast=False)
-    warm: dict[str, float] = {}
-    print(
-        f"   baseline, full formulas engine (CELLWRIGHT_FAST=0), with CW_ functions: "
-        f"cold {base['cold']:.3f} s, warm {base['warm_all'] * 1e3:.1f} ms"
-    )
-    for label, data in (("with CW_ functions", ours), ("native only", native)):
-        r = cold_and_warm(data, work)
-        warm[label] = r["warm_all"]
-        how = "lean plan" if r["lean"] else "full engine (the lean plan declined it)"
-        cells = f"{r['formulas']:,} formula cells, {r['errors']} error cells"
-        print(f"   workbook {label}: {cells}, {how}")
-        print(f"     cold (read, check, compile, evaluate, write):   {r['cold']:8.3f} s")
-        print(f"     warm, same inputs (cached results):          {r['warm_same'] * 1e3:8.3f} ms")
-        for case, what in (
-            ("warm_all", "an input every formula uses"),
-            ("warm_one_column", "an input one column uses"),
-        ):
-            print(f"     new value of {what}:")
-            print(f"       first time:                              {r[case + '_first']:8.3f} s")
-            print(f"       second time:                             {r[case + '_compile']:8.3f} s")
-            print(
-                f"       then, per evaluation:                    {r[case] * 1e3:8.1f} ms"
-                f"   cold/warm = {r[case + '_ratio']:7.1f}x"
-            )
-        if label == "with CW_ functions":
-            print(
-                f"     against the full engine in this run: cold {base['cold'] / r['cold']:.1f}x "
-                f"faster, warm {base['warm_all'] / r['warm_all']:.1f}x faster"
-            )
-            fast_enough = "met" if r["warm_all"] < 0.05 else "NOT met"
-            in_process = "met" if r["warm_all_ratio"] >= 20 else "NOT met"
-            print(f"     goal warm < 50 ms: {fast_enough}")
-            print(
-                f"     goal cold/warm >= 20x with cold in process (after start-up and imports):"
-                f" {in_process}; with cold end to end (the run compared with LibreOffice):"
-                f" section 2"
-            )
-
-    office = find_office()
-    start = startup(CALC_IMPORTS)
-    print(f"\n2. LibreOffice comparison (Python start + imports a calc needs: {start:.2f} s)")
-    cli = {}
-    for label in ("ours", "native"):
-        cmd = [
-            sys.executable,
-            "-m",
-            "udfs.cli",
-            "calc",
-            str(work / f"{label}.xlsx"),
-            "-o",
-            str(work / f"cli-{label}.xlsx"),
-            "--force",
-        ]
-        cli[label] = statistics.median(run(cmd, cwd=ROOT) for _ in range(3))
-        print(f"   cellwright calc {label}.xlsx end to end:          {cli[label]:8.2f} s")
-    ratio = cli["ours"] / warm["with CW_ functions"]
-    print(
-        f"   cold end to end (a fresh cellwright calc of ours.xlsx) / warm (section 1) ="
-        f" {ratio:.0f}x (goal >= 20x: {'met' if ratio >= 20 else 'NOT met'})"
-    )
-    if office is None:
-        print("   soffice/libreoffice not on PATH: LibreOffice comparison skipped")
-    else:
-        files = {"ours": work / "ours.xlsx", "native": work / "native.xlsx"}
-        lo = office_times(office, work, files)
-        print(f"   LibreOffice start-up (trivial workbook):         {lo['startup']:8.2f} s")
-        for label in ("ours", "native"):
-            print(
-                f"   LibreOffice recalculation {label}.xlsx end to end: {lo[label]:8.2f} s"
-                f"   engine/LibreOffice = {cli[label] / lo[label]:.2f}"
-                f" (goal <= 1.0: {'met' if cli[label] <= lo[label] else 'NOT met'})"
-            )
-            lo_work = lo[label] - lo["startup"]
-            if lo_work < 0.05:  # LibreOffice's own start-up is about all of its time
-                print(
-                    f"     without start-up: not measurable (LibreOffice minus its start-up is"
-                    f" {lo_work * 1e3:.0f} ms; engine minus Python start + imports is"
-                    f" {(cli[label] - start) * 1e3:.0f} ms)"
-                )
-                continue
-            work_only = (cli[label] - start) / lo_work
-            print(
-                f"     without start-up (engine minus Python start + imports, LibreOffice minus"
-                f" its start-up): {work_only:.2f}"
-            )
-        print(f"   cross-check (native workbook): {cross_check(work, work / 'native.xlsx')}")
-        print("   (LibreOffice cannot compute CW_ functions: in ours.xlsx those cells are #NAME?)")
-
-    print("\n3. Core sweep, end to end (cellwright sweep --model core, CSV)")
-    dt, rows = core_sweep(work)
-    core_start = startup(CORE_IMPORTS)
-    print(f"   {rows:,} scenarios in {dt:.2f} s (Python start + imports alone: {core_start:.2f} s)")
-
-    print("\n4. Workbook sweeps (in process; the first scenario reduces the model)")
-    cases = [("bench, input used by every formula", ours, "Inputs!B1", "total_energy_Wh", 20)]
-    cases.append(("bench, input used by one column", ours, "Inputs!B6", "average_count", 40))
-    try:
-        from udfs.app import templates
-
-        made = templates.demo_workbook()
-    except Exception as exc:  # the template builders are another module's work
-        made = None
-        print(f"   demo workbook unavailable ({type(exc).__name__}: {exc})")
-    if made is not None:
-        label = "cell-sizing template, in_np_ratio -> out_cost_per_kWh_USD"
-        cases.append((label, made[1], "in_np_ratio", "out_cost_per_kWh_USD", 200))
-    _, base_rate = workbook_sweep(ours, "sweep.xlsx", "Inputs!B1", "total_energy_Wh", 10, False)
-    print(f"   baseline, full engine, bench, input used by every formula: {base_rate:7.1f} /s")
-    for label, data, target, output, n in cases:
-        first, rate = workbook_sweep(data, "sweep.xlsx", target, output, n)
-        met = "met" if rate >= 50 else "NOT met"
-        goal = "" if "template" in label else f" (goal >= 50/s: {met})"
-        print(f"   {label}: first {first:.2f} s, then {rate:7.1f} /s ({n} scenarios){goal}")
-    shutil.rmtree(work, ignore_errors=True)
+    p = argparse.ArgumentParser()
+    p.add_argument("--quick", action="store_true", help="1,500 and 15,000 formulas only")
+    args = p.parse_args()
+    with tempfile.TemporaryDirectory(prefix="cellwright-bench-") as tmp:
+        work = Path(tmp)
+        wb = openpyxl.Workbook()
+        wb.active["A1"] = "=1+1"
+        wb.save(work / "none.xlsx")
+        section_office(work, args.quick)
+    section_warm()
+    section_sweep()
 
 
 if __name__ == "__main__":

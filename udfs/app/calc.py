@@ -31,7 +31,6 @@ from pathlib import Path
 from typing import Any
 
 from udfs.core.errors import CellwrightError
-from udfs.core.input_tables import table_for
 from udfs.engine.model import Evaluation, WorkbookModel, load_model
 from udfs.sheet.error_values import CellValue, SheetError
 from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
@@ -101,6 +100,10 @@ def checked_overrides(
 ) -> dict[CellRef | str, Any]:
     """``--set`` texts as cell values, each checked against the workbook's input table
     when it has one (refused: a one-line reason naming the input, value and range)."""
+    from udfs.core.input_tables import table_for  # only when there is something to check
+
+    if not texts:
+        return {}
     table = table_for(model.named_cells)
     by_cell = {ref: name for name, ref in model.named_cells.items()}
     out: dict[CellRef | str, Any] = {}

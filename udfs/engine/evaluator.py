@@ -152,16 +152,16 @@ class Evaluator:
         self,
         plan: Plan,
         elementwise: Callable[[str], bool] = lambda name: False,
+        stack: bool = True,
     ):
+        """``stack=False`` computes every cell on its own (the tests prove both equal)."""
         self.plan = plan
         self.elementwise = elementwise
+        self.stack = stack
         self.plan_index = CellIndex()
         for u in plan.units:
             self.plan_index.add(u)
         self.programs: dict[str, Program] = {}
-        for u in plan.units:
-            if u.problem is None and u.structure.text not in self.programs:
-                self.programs[u.structure.text] = program(u.structure.text)
         self.volatile = plan.downstream(u.index for u in plan.units if u.structure.dynamic)
         self._base: dict[Key, Any] = {}
         for sheet in plan.book.sheets:
@@ -179,6 +179,35 @@ class Evaluator:
         self._affected: dict[tuple[tuple[Key, ...], tuple[Key, ...] | None], list[list[Unit]]] = {}
 
     # ------------------------------------------------------------------ public
+    def program_of(self, text: str) -> Program:
+        """The program of a structure (parsed once); raises ProgramError."""
+        found = self.programs.get(text)
+        if found is None:
+            found = self.programs[text] = program(text)
+        return found
+
+    def check_programs(self) -> None:
+        """Parse every structure now: ProgramError names what the runner cannot run."""
+        for u in self.plan.units:
+            if u.problem is None:
+                self.program_of(u.structure.text)
+
+    def explain(self, key: Key, values: dict[Key, Any]) -> str | None:
+        """The message of an error cell whose value was computed elsewhere (the fallback
+        model): the cell is computed once more here, from those cell values."""
+        index = self.plan.owner.get(key)
+        if index is None or self.plan.units[index].problem is not None:
+            return None
+        u = self.plan.units[index]
+        try:
+            prog = self.program_of(u.structure.text)
+        except ProgramError:
+            return None
+        run = _Run(self, values, set())
+        with reading(run):
+            self._one(prog, u, key[1:], run)
+        return run.messages.get(key)
+
     def default(self) -> Result:
         """Every formula cell evaluated with the workbook's own inputs (cached)."""
         if self._default is None:
@@ -276,9 +305,9 @@ class Evaluator:
         run.active.update(u.index for u in live)
         try:
             with reading(run):
-                prog = self.programs[live[0].structure.text]
+                prog = self.program_of(live[0].structure.text)
                 cells = [(u, cell) for u in live for cell in u.cells]
-                if len(cells) == 1 or not self._stacked(prog, cells, run):
+                if len(cells) == 1 or not self.stack or not self._stacked(prog, cells, run):
                     for u, cell in cells:
                         self._one(prog, u, cell, run)
         finally:
@@ -352,11 +381,7 @@ class Evaluator:
         s = cells[0][0].structure
         if s.references or s.dynamic or any(u.span is not None for u, _ in cells):
             return False
-        columns: list[list[Any]] = [[] for _ in prog.inputs]
-        per_cell = [self._args(prog, u, cell, run) for u, cell in cells]
-        for args in per_cell:
-            for i, a in enumerate(args):
-                columns[i].append(a)
+        columns = self._columns(prog, cells, run)
         varying: set[str] = set()
         stacked: list[Any] = []
         for name, column in zip(prog.inputs, columns, strict=True):
@@ -390,6 +415,54 @@ class Evaluator:
             run.values[key] = settled
             self._message(key, settled, box.items, i, run)
         return True
+
+    def _columns(
+        self, prog: Program, cells: list[tuple[Unit, tuple[int, int]]], run: _Run
+    ) -> list[list[Any]]:
+        """Each input's values over ``cells`` (as :meth:`_args` gives them cell by cell);
+        a single-cell reference's addresses are computed for a whole unit at once."""
+        columns: list[list[Any]] = [[] for _ in prog.inputs]
+        start = 0
+        while start < len(cells):
+            u = cells[start][0]
+            stop = start
+            while stop < len(cells) and cells[stop][0] is u:
+                stop += 1
+            mine = [cell for _, cell in cells[start:stop]]
+            slots = {r.name: r for r in u.structure.refs}
+            consts = dict(u.structure.consts)
+            ar, ac = u.anchor
+            get = run.values.get
+            for i, name in enumerate(prog.inputs):
+                slot = slots.get(name)
+                a = slot.area if slot is not None else None
+                if slot is None:
+                    value = consts[name] if name in consts else error_value("#NAME?")
+                    columns[i].extend([value] * len(mine))
+                elif a is not None and slot.kind == "ref" and a.r1 == a.r2 and a.c1 == a.c2:
+                    dr = a.kind != "cols" and not a.abs_r1
+                    dc = a.kind != "rows" and not a.abs_c1
+                    s, r1, c1 = slot.sheet, a.r1 - (ar if dr else 0), a.c1 - (ac if dc else 0)
+                    for r, c in mine:
+                        rr, cc = r1 + (r if dr else 0), c1 + (c if dc else 0)
+                        if 1 <= rr <= MAX_ROW and 1 <= cc <= MAX_COL:
+                            columns[i].append(get((s, rr, cc), _EMPTY))
+                        else:
+                            columns[i].append(error_value("#REF!"))
+                else:
+                    for cell in mine:
+                        columns[i].append(self._input(slot, u, cell, run))
+            start = stop
+        return columns
+
+    def _input(self, slot: Any, u: Unit, cell: tuple[int, int], run: _Run) -> Any:
+        """One reference's value for one cell (a range as its block)."""
+        area = u.area(slot, cell)
+        if area is None:
+            return error_value("#REF!")
+        if area.r1 == area.r2 and area.c1 == area.c2:
+            return run.values.get((slot.sheet, area.r1, area.c1), _EMPTY)
+        return run.block(slot.sheet, area.r1, area.c1, area.r2, area.c2)
 
     @staticmethod
     def _message(

@@ -126,7 +126,7 @@ class Evaluation:
                 continue
             errors += 1
             if errors <= MAX_REPORTED:
-                text = self.result.messages.get(key) or m.explain(key, to_cell(value))
+                text = self.result.messages.get(key) or m.explain(key, self.result.values)
                 out.append(Diagnostic("error", m.ref_of(key), text))
         if errors > MAX_REPORTED:
             more = f"... and {errors - MAX_REPORTED} more error cells"
@@ -168,11 +168,14 @@ class WorkbookModel:
                 f"{self._address(first)}: a circular reference, and the workbook asks for "
                 "iterative calculation"
             )
+        evaluator = Evaluator(self.plan, _ours_elementwise)
         if not self.declined:
             try:
-                self._evaluator = Evaluator(self.plan, _ours_elementwise)
+                evaluator.check_programs()
+                self._evaluator = evaluator
             except ProgramError as exc:
                 self.declined.append(str(exc))
+        self._explainer = evaluator  # messages for error cells the fallback computed
         self._fallback: OrderedDict[tuple[tuple[Key, Any], ...], dict[Key, Any]] = OrderedDict()
         self._extended: OrderedDict[tuple[tuple[int, tuple[int, int]], ...], Evaluator] = (
             OrderedDict()
@@ -334,8 +337,14 @@ class WorkbookModel:
                     return list(out)
         return list(out)
 
-    def explain(self, key: Key, err: CellValue) -> str:
-        """A message for an error cell that has none of its own."""
+    def explain(self, key: Key, values: dict[Key, Any]) -> str:
+        """A message for an error cell that has none of its own (computed by the fallback
+        model: the cell is computed once more for its message)."""
+        err = to_cell(values.get(key))
+        if self._evaluator is None:
+            found = self._explainer.explain(key, values)
+            if found:
+                return found
         text = self.formula_text(self.ref_of(key)) or ""
         code = err.code if isinstance(err, SheetError) else str(err)
         return f"{code} (formula {text})" if text else code

@@ -22,7 +22,6 @@ from typing import Literal
 
 from openpyxl.cell.cell import Cell
 from openpyxl.chart import BarChart, Reference
-from openpyxl.chart._chart import ChartBase
 from openpyxl.chart.label import DataLabelList
 from openpyxl.chart.text import RichText
 from openpyxl.drawing.text import CharacterProperties, Paragraph, ParagraphProperties
@@ -399,7 +398,7 @@ def axis_text(size: int) -> RichText:
     return RichText(p=[Paragraph(pPr=ParagraphProperties(defRPr=props), endParaRPr=props)])
 
 
-def value_labels(chart: ChartBase, number_format: str) -> None:
+def value_labels(chart: BarChart, number_format: str) -> None:
     """Data labels that show only the value (no series or category names)."""
     labels = DataLabelList()
     labels.showVal = True

@@ -142,8 +142,9 @@ def _size(n: float) -> str:
 
 def formula_nesting(text: str) -> int:
     """Deepest nesting of function calls in a formula (strings and quoted names skipped)."""
-    if text.count("(") <= 1:
-        return text.count("(")
+    opened = text.count("(")
+    if opened <= 1:
+        return opened
     depth = best = 0
     stack: list[bool] = []
     quote = ""

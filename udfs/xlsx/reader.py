@@ -345,7 +345,7 @@ class _Reading:
                 f"a formula on sheet {sheet!r} is {len(text):,} characters long "
                 f"(limit {lim.formula_length:,})",
             )
-        depth = formula_nesting(text)
+        depth = formula_nesting(text) if text.count("(") > lim.nesting else 0
         if depth > lim.nesting:
             raise HostileFileError(
                 self.name,

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
+from typing import NamedTuple
 
 from .file_errors import ReferenceSyntaxError
 
@@ -75,8 +75,7 @@ def quote_sheet(name: str) -> str:
     return "'" + name.replace("'", "''") + "'"
 
 
-@dataclass(frozen=True, order=True)
-class CellRef:
+class CellRef(NamedTuple):
     """One cell: sheet name as in the workbook, 1-based row and column."""
 
     sheet: str

@@ -324,9 +324,11 @@ __all__ += ["unlabel_parts"]
 def restored(data: bytes, name: str, limits: Limits) -> bytes | None:
     """The workbook with its kept formulas back, when ``data`` is a values-only copy
     (None otherwise); refused with a reason when the kept formulas are damaged."""
-    book = read_workbook(data, name, limits)
-    if not any(dn.name == MARKER for dn in book.defined_names):
+    look = Package(data, name)
+    look.read_structure(limits.defined_names)  # the workbook part only: is it a values copy?
+    if not any(dn.name == MARKER for dn in look.defined_names):
         return None
+    book = read_workbook(data, name, limits)
     sheet = book.sheet(FORMULAS_SHEET)
     if sheet is None:
         raise WorkbookError(

@@ -86,13 +86,26 @@ def escape(text: str) -> str:
     return _ILLEGAL.sub(lambda m: f"_x{ord(m.group(0)):04X}_", text)
 
 
+_ATTR_FIND: dict[str, re.Pattern[str]] = {}
+_ATTR_DROP: dict[str, re.Pattern[str]] = {}
+
+
 def _attr(attrs: str, name: str) -> str | None:
-    m = re.search(r"(?:^|\s)" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')", attrs)
+    find = _ATTR_FIND.get(name)
+    if find is None:
+        find = re.compile(r"(?:^|\s)" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')")
+        _ATTR_FIND[name] = find
+    m = find.search(attrs)
     return m.group(1)[1:-1] if m else None
 
 
 def _set_attr(attrs: str, name: str, value: str | None) -> str:
-    attrs = re.sub(r"\s+" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')", "", attrs)
+    drop = _ATTR_DROP.get(name)
+    if drop is None:
+        drop = re.compile(r"\s+" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')")
+        _ATTR_DROP[name] = drop
+    if name + "=" in attrs or name + " " in attrs:
+        attrs = drop.sub("", attrs)
     if value is not None:
         attrs = f' {name}="{value}"' + attrs
     return attrs
@@ -210,7 +223,40 @@ def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
 
 
 def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
-    """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched."""
+    """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched.
+
+    Cells that exist are rewritten in one pass over the cells; cells that do not
+    exist yet (an array formula's range, a new input) are inserted row by row.
+    """
+    m = _SHEETDATA.search(xml)
+    if m is None:
+        raise WorkbookError("damaged sheet: no sheetData")
+    by_ref = {f"{col_letters(c)}{r}": (r, c) for (r, c) in edits}
+    done: set[tuple[int, int]] = set()
+    unnamed = False
+
+    def one(cm: re.Match[str]) -> str:
+        nonlocal unnamed
+        ref = _attr(cm.group("attrs"), "r")
+        if ref is None:
+            unnamed = True
+            return cm.group(0)
+        at = by_ref.get(ref)
+        if at is None:
+            return cm.group(0)
+        done.add(at)
+        return _cell_xml(cm.group(0), cm.group("p"), ref, edits[at])
+
+    body = _CELL.sub(one, m.group("body") or "")
+    if unnamed:  # cells without their address: place every edit row by row
+        return _patch_rows(xml, edits)
+    xml = xml[: m.start("body")] + body + xml[m.end("body") :] if m.group("body") else xml
+    rest = {at: e for at, e in edits.items() if at not in done}
+    return _patch_rows(xml, rest) if rest else xml
+
+
+def _patch_rows(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
+    """``edits`` made row by row (rows and cells created where missing, kept in order)."""
     m = _SHEETDATA.search(xml)
     if m is None:
         raise WorkbookError("damaged sheet: no sheetData")
@@ -303,12 +349,6 @@ def text_of(parts: Mapping[str, bytes | None], pkg: Package, part: str) -> str:
     return _PROLOG_ENCODING.sub(r"\1\2UTF-8\2", text, count=1)
 
 
-def sheet_edits(
-    values: Mapping[CellRef, Edit], sheet: str
-) -> dict[tuple[int, int], Edit]:
-    return {(r.row, r.col): e for r, e in values.items() if r.sheet == sheet}
-
-
 def assemble(pkg: Package, parts: Mapping[str, bytes | None], extra: Mapping[str, bytes]) -> bytes:
     """The new package: changed parts replaced, None parts left out, ``extra`` added."""
     out = io.BytesIO()
@@ -335,8 +375,11 @@ def apply_edits(
     pkg: Package, edits: Mapping[CellRef, Edit], parts: dict[str, bytes | None]
 ) -> None:
     """Make ``edits`` in the sheets' XML (into ``parts``)."""
+    by_sheet: dict[str, dict[tuple[int, int], Edit]] = {}
+    for ref, e in edits.items():
+        by_sheet.setdefault(ref.sheet, {})[(ref.row, ref.col)] = e
     for sheet in pkg.worksheets():
-        cells = sheet_edits(edits, sheet.name)
+        cells = by_sheet.get(sheet.name)
         if cells:
             xml = patch_sheet(text_of(parts, pkg, sheet.part), cells)
             parts[sheet.part] = xml.encode("utf-8")
