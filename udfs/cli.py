@@ -6,7 +6,13 @@ Commands (each with ``--help``)::
     cellwright template NAME -o PATH [--force]      |  cellwright template --list
     cellwright demo [-o PATH] [--force]
     cellwright sweep IN.xlsx --vary Sheet!B4=40:80:5 [--vary ...] --out OUT.csv|OUT.xlsx
-    cellwright sweep --model core --vary target_capacity_Ah=40:80:5 --out OUT.csv
+    cellwright sweep [IN.xlsx] --model core --vary in_cathode=NMC811,LFP
+                     --vary index:nickel=12000:20000:2000 --out OUT.csv
+                     [--prices BOOK.csv] [--workers N|ADDRESS]
+    cellwright compare [IN.xlsx ...] [--case "LABEL: in_x=V; in_y=W" ...] [--prices BOOK.csv]
+                       [--out OUT.csv|OUT.xlsx]
+    cellwright risk [IN.xlsx] --range index:nickel=12000,15500,20000 [--range ...] [--samples N]
+                    [--seed S] [--prices BOOK.csv] [--workers N|ADDRESS] [--out OUT.csv|OUT.xlsx]
     cellwright functions
 
 Exit codes: 0 done; 1 the work could not be done (the reason is printed on one
@@ -61,8 +67,10 @@ def _lines(out: list[str], err: list[str]) -> None:
 
 def _parse_set(text: str) -> tuple[str, str]:
     """``Sheet!B4=40`` / ``'My sheet'!B4=x`` / ``name=40`` -> (target, value as typed)."""
+    from udfs.app.safe_text import check_argument
     from udfs.xlsx.file_errors import ReferenceSyntaxError
 
+    check_argument(text, "--set")
     start = 0
     if text.startswith("'"):
         i = 1
@@ -169,35 +177,62 @@ def _cmd_demo(args: argparse.Namespace) -> int:
 
 
 def _cmd_sweep(args: argparse.Namespace) -> int:
-    from udfs.app.sweep import parse_vary, sweep_core, sweep_workbook
+    from udfs.app.safe_text import check_argument, one_line, show
+    from udfs.app.sweep import all_failed, axes, failures, run_sweep
     from udfs.app.tables import check_table_output, write_table
-    from udfs.xlsx.file_errors import ReferenceSyntaxError
 
-    varies = [parse_vary(v) for v in args.vary or []]
-    if not varies:
-        raise ReferenceSyntaxError("give at least one --vary TARGET=start:stop:step")
+    for cell in args.output_cells or ():
+        check_argument(cell, "--output")
     inputs = [args.input] if args.input else []
     check_table_output(args.out, args.force, inputs)
-    if args.model == "core":
-        if args.input:
-            raise ReferenceSyntaxError("--model core sweeps the core model; give no workbook")
-        if args.output_cells:
-            raise ReferenceSyntaxError("--output chooses workbook cells; not with --model core")
-        table = sweep_core(varies)
-    else:
-        if not args.input:
-            raise ReferenceSyntaxError("give the workbook to sweep (or --model core)")
-        from udfs.app.calc import open_model
-
-        model = open_model(args.input, _limits(args))
-        table = sweep_workbook(model, varies, args.output_cells or ())
+    table = run_sweep(args.vary or [], args.input, args.model, args.output_cells or (),
+                      args.prices, args.workers, _limits(args))
     path = write_table(table, args.out, args.force, inputs)
-    _say(
-        f"Swept {table.rows:,} scenarios ({' x '.join(str(len(v.values)) for v in varies)}) "
-        f"of {table.source}."
-    )
-    _say(f"Outputs: {', '.join(table.outputs)}")
+    _say(f"Swept {table.rows:,} scenarios ({' x '.join(str(n) for n in axes(table))}) "
+         f"of {table.source}.")
+    _say(f"Outputs: {show(', '.join(table.outputs), 400)}")
+    for note in table.notes:
+        _say(f"note: {one_line(note)}", sys.stderr)
     _say(f"Wrote {path}.")
+    _caution()
+    if all_failed(table):
+        _say(one_line(f"{PROG} sweep: error: every scenario gives an error value in every "
+                      f"output ({'; '.join(failures(table))})"), sys.stderr)
+        return 1
+    return 0
+
+
+def _cmd_compare(args: argparse.Namespace) -> int:
+    from udfs.app.compare import compare_files
+    from udfs.app.tables import check_table_output, write_table
+
+    inputs = list(args.inputs or [])
+    if args.out:
+        check_table_output(args.out, args.force, inputs)
+    result = compare_files(inputs, args.case or [], args.prices)
+    for line in result.lines():
+        _say(line)
+    if args.out:
+        _say(f"Wrote {write_table(result.table, args.out, args.force, inputs)}.")
+    _caution()
+    return 0
+
+
+def _cmd_risk(args: argparse.Namespace) -> int:
+    from udfs.app.risk import risk_paths, run_risk, write_risk_tables
+    from udfs.app.tables import check_table_output
+
+    inputs = [args.input] if args.input else []
+    if args.out:
+        for path in risk_paths(args.out).values():
+            check_table_output(path, args.force, inputs)
+    result = run_risk(args.range or [], args.samples, args.seed, args.output or ["full_USD_kWh"],
+                      args.input, args.prices, args.workers)
+    for line in result.lines():
+        _say(line)
+    if args.out:
+        for path in write_risk_tables(result, args.out, args.force, inputs):
+            _say(f"Wrote {path}.")
     _caution()
     return 0
 
@@ -286,12 +321,15 @@ def build_parser() -> argparse.ArgumentParser:
         "cells or defined names and report the named formula cells (or --output cells); "
         "--model core varies CellSpec fields of the demo spec in one vectorised call.",
     )
-    p.add_argument("input", nargs="?", metavar="IN.xlsx", help="workbook (not with --model core)")
+    p.add_argument("input", nargs="?", metavar="IN.xlsx",
+                   help="workbook to sweep; with --model core, the workbook whose inputs start "
+                   "the core model (default: the demo cell)")
     p.add_argument(
         "--vary",
         action="append",
         metavar="TARGET=START:STOP:STEP",
-        help="Sheet!B4=40:80:5, name=1.05,1.1,1.2 or (core) np_ratio=1.05:1.2:0.05 (repeatable)",
+        help="Sheet!B4=40:80:5, name=1.05,1.1,1.2, in_cathode=NMC811,LFP or (core) "
+        "np_ratio=1.05:1.2:0.05, index:nickel=12000,20000, price:graphite=5:9:1 (repeatable)",
     )
     p.add_argument("--out", required=True, metavar="OUT.csv|OUT.xlsx", help="table to write")
     p.add_argument(
@@ -302,11 +340,52 @@ def build_parser() -> argparse.ArgumentParser:
         dest="output_cells",
         action="append",
         metavar="CELL",
-        help="an output cell or defined name (repeatable; default: the named formula cells)",
+        help="an output cell or defined name (repeatable; default: the named formula cells); "
+        "with --model core an output such as full_USD_kWh or specific_energy_Wh_kg",
     )
+    _prices_and_workers(p)
     _max_formulas(p)
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     p.set_defaults(func=_cmd_sweep)
+
+    p = sub.add_parser(
+        "compare",
+        help="designs side by side: key figures, cost and bill of materials with differences",
+        description="Size and cost each design with the core: each workbook's inputs (a "
+        "cell-sizing or cost workbook, only read) and each --case (the first design's inputs, "
+        "or the demo cell's, with some changed). Prints every key figure, the cost and the "
+        "bill of materials in columns with the differences from the first design.",
+    )
+    p.add_argument("inputs", nargs="*", metavar="IN.xlsx", help="workbooks, one design each")
+    p.add_argument("--case", action="append", metavar='"LABEL: in_x=V; in_y=W"',
+                   help="a design: the first design's inputs with some changed (repeatable)")
+    p.add_argument("--prices", metavar="BOOK.csv", help="a price-book CSV for every design")
+    p.add_argument("--out", metavar="OUT.csv|OUT.xlsx", help="also write the table")
+    p.add_argument("--force", action="store_true", help="replace OUT if it exists")
+    p.set_defaults(func=_cmd_compare)
+
+    p = sub.add_parser(
+        "risk",
+        help="Monte Carlo of the cost: P10/P50/P90, histogram and tornado",
+        description="Run a seeded Monte Carlo of the full cost model of a workbook's cell (or "
+        "the demo cell) with inputs given as ranges, and swing each input alone for the "
+        "tornado. The same seed gives the same numbers, on this machine or a cluster.",
+    )
+    p.add_argument("input", nargs="?", metavar="IN.xlsx",
+                   help="workbook whose inputs give the cell (default: the demo cell)")
+    p.add_argument("--range", action="append", metavar="NAME=LOW,LIKELY,HIGH[,DIST]",
+                   help="index:nickel=12000,15500,20000, price:graphite=5,6,9,pert, "
+                   "energy_price_USD_per_kWh=0.08,0.1,0.15,uniform (repeatable)")
+    p.add_argument("--samples", type=_positive_count, default=1_000_000, metavar="N",
+                   help="samples (default 1,000,000)")
+    p.add_argument("--seed", type=int, default=2025, help="seed of the draws (default 2025)")
+    p.add_argument("--output", action="append", metavar="NAME",
+                   help="an output of the cost model (repeatable; default full_USD_kWh)")
+    _prices_and_workers(p)
+    p.add_argument("--out", metavar="OUT.csv|OUT.xlsx",
+                   help="also write OUT-percentiles, OUT-histogram and OUT-tornado")
+    p.add_argument("--force", action="store_true", help="replace the tables if they exist")
+    p.set_defaults(func=_cmd_risk)
 
     p = sub.add_parser(
         "functions",
@@ -315,6 +394,15 @@ def build_parser() -> argparse.ArgumentParser:
     )
     p.set_defaults(func=_cmd_functions)
     return parser
+
+
+def _prices_and_workers(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--prices", metavar="BOOK.csv",
+                   help="a price-book CSV (columns in data/README.md) instead of the workbook's "
+                   "or the latest shipped demo book (core model only)")
+    p.add_argument("--workers", metavar="N|ADDRESS",
+                   help='run on Dask: N local workers, or a scheduler address such as '
+                   'tcp://host:8786 (pip install "cellwright[cluster]")')
 
 
 def _positive_count(text: str) -> int:
@@ -340,9 +428,9 @@ def _max_formulas(p: argparse.ArgumentParser) -> None:
 
 
 def _limits(args: argparse.Namespace) -> Any:
-    from udfs.xlsx.guard import Limits
+    from udfs.xlsx.guard import limits_for
 
-    return Limits(formula_cells=args.max_formulas)
+    return limits_for(args.max_formulas)
 
 
 def _version() -> str:
@@ -361,43 +449,68 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not getattr(args, "func", None):
         parser.print_help()
         return 2
+    from udfs.app.safe_text import one_line
     from udfs.core.errors import CellwrightError
     from udfs.xlsx.file_errors import EngineError
+    from udfs.xlsx.files import WriteInterrupted
 
     debug = os.environ.get("CELLWRIGHT_DEBUG") == "1"
     where = f"{PROG} {args.command}"
+    out_of_memory = False
     try:
         return int(args.func(args))
     except (EngineError, CellwrightError) as exc:
         if debug:
             raise
-        _say(f"{where}: error: {exc}", sys.stderr)
+        _say(f"{where}: error: {one_line(exc)}", sys.stderr)
         return 1
     except BrokenPipeError:  # e.g. piped into `head`: stop quietly
         with contextlib.suppress(OSError):
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         return 1
+    except WriteInterrupted as exc:  # a signal stopped a write: its file is gone
+        _say(f"{where}: {one_line(exc)}", sys.stderr)
+        return exc.exit_code
     except KeyboardInterrupt:
         _say(f"{where}: interrupted; no output was written", sys.stderr)
         return 130
     except MemoryError:
-        _say(f"{where}: error: out of memory", sys.stderr)
-        return 1
+        out_of_memory = True  # answered below, outside the handler that holds the frames
     except OSError as exc:
         if debug:
             raise
-        _say(f"{where}: error: {exc.strerror or exc}", sys.stderr)
+        _say(f"{where}: error: {one_line(exc.strerror or exc)}", sys.stderr)
         return 1
     except Exception as exc:  # never a traceback for the user
-        if debug:
-            raise
-        first = str(exc).splitlines()[0] if str(exc) else ""
-        _say(
-            f"{where}: internal error: {type(exc).__name__}: {first} "
-            "(set CELLWRIGHT_DEBUG=1 for details)",
-            sys.stderr,
-        )
-        return 3
+        if isinstance(exc, SystemError) and "without exception set" in str(exc):
+            # CPython's answer when an allocation fails inside C code (eval() of a
+            # number while parsing, seen under a memory cap): out of memory
+            out_of_memory = True
+        else:
+            if debug:
+                raise
+            _say(
+                f"{where}: internal error: {one_line(f'{type(exc).__name__}: {exc}', 300)} "
+                "(set CELLWRIGHT_DEBUG=1 for details)",
+                sys.stderr,
+            )
+            return 3
+    assert out_of_memory
+    _out_of_memory(where)
+    return 1
+
+
+def _out_of_memory(where: str) -> NoReturn:
+    """Say so in one line and stop at once: printing or a normal shutdown would need
+    memory that is not there (and could print a chain of tracebacks or hang)."""
+    import gc
+
+    message = f"{where}: error: out of memory\n".encode()
+    gc.collect()
+    sys.unraisablehook = lambda _unraisable: None
+    with contextlib.suppress(OSError):
+        os.write(2, message)
+    os._exit(1)
 
 
 if __name__ == "__main__":

@@ -65,3 +65,32 @@ def test_a_running_scheduler_by_its_address() -> None:
             DaskRunner(address=cluster.scheduler_address) as runner:
         got = monte_carlo(model, ranges, BLOCK + 5, seed=3, runner=runner)
     np.testing.assert_array_equal(got.samples["full_USD_kWh"], ref.samples["full_USD_kWh"])
+
+
+def test_core_sweep_on_the_cluster_equals_the_local_run() -> None:
+    import io
+
+    from udfs.app.progress import Progress
+    from udfs.app.sweep import parse_vary, sweep_core
+
+    varies = [parse_vary("in_cathode=NMC811,LFP"), parse_vary("np_ratio=1.0:1.3:0.01"),
+              parse_vary("index:nickel=12000:20000:2000")]  # 2 x 31 x 5 = 310 scenarios
+
+    def bar(n: int) -> Progress:
+        return Progress(n, "t", stream=io.StringIO())
+
+    local = sweep_core(varies, progress=bar(310))
+    with DaskRunner(workers=2) as runner:
+        remote = sweep_core(varies, progress=bar(310), runner=runner, chunk_rows=64)
+    for name in local.outputs:
+        np.testing.assert_array_equal(remote.columns[name], local.columns[name])
+    assert remote.notes == local.notes
+
+
+def test_risk_command_on_workers() -> None:
+    from udfs.app.risk import run_risk
+
+    ranges = ["index:nickel=12000,15500,22000", "capex_USD_per_GWh=6e7,8e7,1.2e8"]
+    ref = run_risk(ranges, samples=BLOCK + 9, seed=4)
+    got = run_risk(ranges, samples=BLOCK + 9, seed=4, workers=2)
+    np.testing.assert_array_equal(got.run.samples["full_USD_kWh"], ref.run.samples["full_USD_kWh"])

@@ -61,8 +61,9 @@ def test_waterfall_per_cell_and_per_ah() -> None:
 def test_prices_on_other_bases() -> None:
     d = design_cell(_spec())
     base = cell_cost(d)
-    # the tab priced per piece at its demo price per kg times its 2 g (demo data)
-    per_piece = cell_cost(d, prices={"nickel tab": (32.0 * 0.002, "USD/each")})
+    # the tab priced per piece at its demo price per kg times its mass (demo data)
+    tab_kg = float(d.components["anode tab (nickel tab)"]) / 1000.0
+    per_piece = cell_cost(d, prices={"nickel tab": (32.0 * tab_kg, "USD/each")})
     assert float(per_piece.full_USD_kWh) == pytest.approx(float(base.full_USD_kWh), rel=1e-12)
     # the electrolyte per litre at its demo price per kg times the catalogue density 1.28
     per_litre = cell_cost(d, prices={"LiPF6 1M in EC:DMC": (9.5 * 1.28, "L", "USD")})
@@ -71,7 +72,7 @@ def test_prices_on_other_bases() -> None:
         cell_cost(d, prices={"NMC811": (10.0, "USD/m^2")})
     assert "has no area quantity" in str(coating.value)
     with pytest.raises(UnitError) as pouch:
-        cell_cost(d, prices={"pouch laminate": (1.0, "USD/m^2")})
+        cell_cost(d, prices={"nickel tab": (1.0, "USD/m^2")})
     assert "price it per kg or per each" in str(pouch.value)
     with pytest.raises(InputError):
         cell_cost(d, prices={"NMC811": "cheap"})  # type: ignore[dict-item]

@@ -291,7 +291,9 @@ def test_fuzz_cli_vary_syntax(text: str) -> None:
     got = _engine_only("cli-vary", lambda: parse_vary(text), text)
     if got is not None:
         assert got.target and 1 <= len(got.values) <= MAX_POINTS_PER_AXIS, (text, got)
-        assert all(math.isfinite(v) for v in got.values), (text, got)
+        # a value is a finite number, or text (a name such as a material), never blank
+        assert all(math.isfinite(v) if isinstance(v, float) else (isinstance(v, str) and
+                   v.strip() == v and v) for v in got.values), (text, got)
 
 
 # ---------------------------------------------------------------------- every sheet function

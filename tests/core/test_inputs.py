@@ -208,7 +208,9 @@ def test_each_workbook_finds_its_own_table(table: InputTable) -> None:
 
 def test_check_input_checks_known_inputs_only() -> None:
     assert check_input(CELL_SIZING.names, "in_cathode", "LFP") == "LiFePO4"
-    with pytest.raises(DomainError, match=r"in_np_ratio \(N/P ratio\) must be > 0 \(got -1\)"):
+    with pytest.raises(
+        DomainError, match=r"in_np_ratio \(N/P ratio, first-charge basis\) must be > 0 \(got -1\)"
+    ):
         check_input(CELL_SIZING.names, "in_np_ratio", -1)
     assert check_input(["in_mass"], "in_mass", -1) == -1  # no model: nothing to check against
     assert check_input(ELECTROLYSIS.names, "in_plating_cells", 3.0) == 3.0

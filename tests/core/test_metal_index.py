@@ -10,6 +10,7 @@ from udfs.core.cell_cost import cell_cost, cost_model
 from udfs.core.errors import DomainError, InputError, NotFoundError
 from udfs.core.metal_index import (
     index,
+    index_coefficient,
     index_coefficients,
     index_for_price,
     index_names,
@@ -148,3 +149,25 @@ def test_cost_sensitivity_to_each_index_equals_the_finite_difference() -> None:
     # a 10,000 USD/t move in lithium hydroxide, by the sensitivity (USD/kWh)
     li = float(sens["lithium hydroxide"]) * 10.0
     assert 0.0 < li < 20.0
+
+
+def test_one_coefficient_and_its_payable() -> None:
+    # w(Co in LiCoO2) from molmass (independent code and weights) x payable
+    co = _fraction("LiCoO2", "Co")
+    assert index_coefficient("LCO", "cobalt") == pytest.approx(co, rel=1e-4)
+    got = index_coefficient("LCO", "Co", np.array([0.5, 1.0]))
+    assert got.tolist() == pytest.approx([0.5 * co, co], rel=1e-4)
+    assert index_coefficient("NMC811", "nickel") == pytest.approx(
+        float(index_coefficients("NMC811", NMC811_PAY)["nickel"]), rel=1e-15)
+    assert index_coefficient("LFP", "cobalt") == 0.0  # no cobalt: nothing paid
+    with pytest.raises(DomainError, match="payable"):
+        index_coefficient("NMC811", "nickel", 2.5)
+
+
+def test_the_index_for_a_price_broadcasts() -> None:
+    pay = {"lithium carbonate": 1.0, "iron": 0.0}
+    x = index_for_price("LFP", np.array([6.0, 9.0]), "lithium carbonate", {}, pay, 2.5)
+    back = indexed_price("LFP", {"lithium carbonate": x}, pay, 2.5).price_USD_kg
+    assert back.tolist() == pytest.approx([6.0, 9.0], rel=1e-14)
+    with pytest.raises(InputError, match="below the fee"):
+        index_for_price("LFP", np.array([6.0, 1.0]), "lithium carbonate", {}, pay, 2.5)

@@ -5,9 +5,15 @@ from __future__ import annotations
 import pytest
 
 from udfs.core import catalogue
-from udfs.core.errors import DataError, NotFoundError
+from udfs.core.errors import DataError, InputError, NotFoundError
 from udfs.core.metal_index import index_coefficients
-from udfs.core.price_books import price_book, price_book_names, read_price_book
+from udfs.core.price_books import (
+    book_field,
+    book_info,
+    price_book,
+    price_book_names,
+    read_price_book,
+)
 from udfs.core.prices import exchange_rates
 
 HEADER = "kind,item,index,value,unit,currency,date,region,source,note\n"
@@ -115,3 +121,32 @@ def test_missing_columns_and_unpriced_material() -> None:
     with pytest.raises(NotFoundError) as info:
         book.material_price("silicon")
     assert "test-book" in str(info.value)
+
+
+def test_the_fields_of_an_item_and_of_a_book() -> None:
+    book = price_book("demo-2025-06")  # data/price_books/demo-2025-06.csv (demo data)
+    assert book_info(book) == "demo-2025-06 (2025-06-30)"
+    assert book_info(book, "earliest") == "2025-06-30" and book_info(book, "rows") == float(
+        len(book.rows))
+    # an index quoted per lb: 15 USD/lb / 0.45359237 kg/lb x 1000 (common practice, computed)
+    assert book_field(book, "index:cobalt") == pytest.approx(15 / 0.45359237 * 1000, rel=1e-15)
+    assert book_field(book, "index:cobalt", "quoted") == 15.0
+    assert book_field(book, "index:cobalt", "quoted_unit") == "USD/lb"
+    assert book_field(book, "index:cobalt", "unit") == "USD/t"
+    # a fixed price in another currency and per area: 0.48 EUR/m2 at 1.17 USD/EUR (computed)
+    assert book_field(book, "PE separator") == pytest.approx(0.48 * 1.17, rel=1e-15)
+    assert book_field(book, "PE separator", "basis") == "area"
+    assert book_field(book, "PE separator", "quoted_unit") == "EUR/m^2"
+    assert book_field(book, "pe separator", "region") == "Europe (demo)"
+    # an indexed price: the fee plus its metals at the book's own indexes
+    indexes = book.index_prices_USD_t()
+    p = book.material_price("NMC811")
+    want = p.USD_per_base + sum(c * indexes[ix] / 1000 for ix, c in p.coefficients)
+    assert book_field(book, "NMC811") == pytest.approx(want, rel=1e-15)
+    assert book_field(book, "NMC811", "payable", "manganese") == 0.0
+    with pytest.raises(NotFoundError, match="index of NMC811's contract"):
+        book_field(book, "NMC811", "payable", "copper")
+    with pytest.raises(NotFoundError, match="index priced in the price book"):
+        book_field(book, "index:iron")
+    with pytest.raises(InputError, match="applies to materials"):
+        book_field(book, "index:nickel", "coefficient", "nickel")

@@ -78,7 +78,7 @@ def test_written_forms_and_currency_argument() -> None:
         ("USD/kg/m", None, "one basis"),
         ("kg", None, "names no currency"),
         ("EUR/kg", "USD", "is in EUR but the currency given is 'USD'"),
-        ("USD/" + "k" * 60, None, "longer than"),
+        ("USD/" + "k" * 60, None, "is too long (at most 40)"),
         ("", None, "a price unit such as"),
     ],
 )

@@ -11,7 +11,18 @@ import pytest
 
 from udfs.core.cell_cost import cost_model
 from udfs.core.errors import DomainError, InputError, NotFoundError
-from udfs.core.risk import BLOCK, Range, make_range, monte_carlo, thread_runner, tornado
+from udfs.core.risk import (
+    BLOCK,
+    Range,
+    draw,
+    input_key,
+    make_range,
+    monte_carlo,
+    percentiles_of,
+    quantile,
+    thread_runner,
+    tornado,
+)
 from udfs.core.sizing import CellSpec, design_cell
 
 
@@ -160,3 +171,54 @@ def test_make_range_accepts_a_range() -> None:
     r = make_range("p", Range(1.0, 2.0, 3.0, "pert"))
     assert r == Range(1.0, 2.0, 3.0, "pert")
     assert make_range("p", (1, None, 3, "Uniform")).likely == 2.0
+
+
+def test_block_draws_are_the_inverse_distribution_function_bit_for_bit() -> None:
+    # the branch-free, in-place transform of a whole slice equals Range.quantile's
+    # np.where of two square roots on the same uniforms, bit for bit
+    ranges = {"a": (0.0, 1.0, 4.0), "b": (2.0, 2.0, 5.0), "c": (3.0, 7.0, 7.0),
+              "d": (1.0, None, 2.0, "uniform"), "e": (4.0, 4.0, 4.0)}
+    positions = np.arange(2 * BLOCK + 17)
+    got = draw(ranges, 7, positions)
+    for name, raw in ranges.items():
+        r = make_range(name, raw)
+        want = np.empty(positions.size)
+        for b in range(3):
+            rng = np.random.default_rng(np.random.SeedSequence(7, spawn_key=(b, input_key(name))))
+            lo, hi = b * BLOCK, min((b + 1) * BLOCK, positions.size)
+            want[lo:hi] = r.quantile(rng.random(hi - lo))
+        np.testing.assert_array_equal(got[name], want)
+
+
+def test_draw_gives_the_samples_of_a_run_at_any_positions() -> None:
+    m = Linear({"a": 1.0, "b": 1.0}, {"a": 1.0, "b": 1.0})
+    ranges = {"a": (0.0, 1.0, 2.0), "b": (0.5, 1.0, 3.0, "pert")}
+    run = monte_carlo(m, ranges, 2 * BLOCK + 5, seed=9, outputs="echo a")
+    at = np.array([[0, BLOCK - 1], [BLOCK, 2 * BLOCK + 4]])
+    np.testing.assert_array_equal(draw(ranges, 9, at)["a"], run.samples["echo a"][at])
+    with pytest.raises(DomainError, match="whole numbers >= 0"):
+        draw(ranges, 9, [1.5])
+    with pytest.raises(InputError, match="seed"):
+        draw(ranges, -1, [1])
+
+
+def test_percentiles_are_the_order_statistics_interpolated() -> None:
+    rng = np.random.default_rng(3)
+    for x in (rng.standard_normal(200_001) ** 3, np.repeat(rng.random(50), 2_000),
+              rng.random(100)):
+        p = [0.0, 10.0, 50.0, 90.0, 99.99, 100.0]
+        # numpy's linear method (the spreadsheet's PERCENTILE) is the reference
+        assert percentiles_of(x, p) == pytest.approx(list(np.percentile(x, p)), rel=1e-15,
+                                                     abs=1e-300)
+    assert percentiles_of(np.full(100_000, 2.5), [10.0, 90.0]) == [2.5, 2.5]
+
+
+def test_closed_form_quantiles_broadcast() -> None:
+    # triangular(0, c, 4) medians for c = 1 and c = 4 (computed: b - sqrt((b-a)(b-c)/2), and
+    # a + sqrt(0.5 (b-a)(c-a)) left of the mode)
+    got = quantile(0.0, np.array([1.0, 4.0]), 4.0, 0.5)
+    assert got.tolist() == pytest.approx([4 - math.sqrt(6), math.sqrt(8)], rel=1e-15)
+    assert quantile(np.array([1.0, 2.0]), np.array([1.0, 2.0]), np.array([1.0, 2.0]),
+                    0.3).tolist() == [1.0, 2.0]
+    with pytest.raises(InputError, match="PERT has no closed-form"):
+        quantile(0.0, 1.0, 2.0, 0.5, "pert")

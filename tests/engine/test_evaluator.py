@@ -58,8 +58,13 @@ def _mixed_book() -> bytes:
         calc[f"B{r}"] = f"=IF(A{r}>10,ROUND(A{r}/3,2),IFERROR(1/A{r},-1))"
         calc[f"C{r}"] = f"=CW_CAPACITY(Inputs!B{r}*10,A{r})"
         calc[f"D{r}"] = f"=IFERROR(CW_ENERGY(C{r},3.6),\"n/a\")"
-        calc[f"E{r}"] = f"=SUM($B$1:B{r})"  # a running total reads its own column
+        calc[f"E{r}"] = f"=SUM($B$1:B{r})"  # a running total of column B
         calc[f"F{r}"] = f"=Inputs!B{r}^2-MAX(Inputs!B{r},2)"
+        # runs that read their own cells: before them (kept one unit, computed in order),
+        # and after them (split into single cells)
+        calc[f"I{r}"] = f"=I{r - 1}+A{r}" if r > 1 else "=A1"
+        calc[f"J{r}"] = f"=SUM($J$1:J{r - 1})+1" if r > 1 else "=1"
+        calc[f"K{r}"] = f"=K{r + 1}*0.5+1" if r < 40 else "=2"
     calc["H1"] = "=SUMPRODUCT(A1:A40,B1:B40)"
     calc["H2"] = "=INDEX(B1:B40,MATCH(MAX(B1:B40),B1:B40,0))"
     calc["H3"] = '=COUNTIF(D1:D40,"n/a")'

@@ -25,7 +25,10 @@ def _bytes(wb: openpyxl.Workbook) -> bytes:
 
 
 def _context(names=(), tables=()) -> Context:
-    sheets = [SheetData("Calc", 0, "", max_row=9, max_col=4), SheetData("Inputs", 1, "", max_row=20)]
+    sheets = [
+        SheetData("Calc", 0, "", max_row=9, max_col=4),
+        SheetData("Inputs", 1, "", max_row=20),
+    ]
     return Context(sheets, list(names), list(tables), lambda n: n != "NOPE")
 
 
@@ -33,7 +36,8 @@ def test_cells_filled_from_one_formula_share_their_relative_text():
     assert relative_text("=A1+$B$2*C$3", 1, 2) == relative_text("=A5+$B$2*C$3", 5, 2)
     assert relative_text("=A1+B1", 1, 3) != relative_text("=A1+B1", 2, 3)
     # quoted sheet names and strings are not references
-    assert relative_text("='Sheet A1'!B1&\"C3\"", 1, 1) != relative_text("='Sheet A2'!B2&\"C3\"", 2, 1)
+    first = relative_text("='Sheet A1'!B1&\"C3\"", 1, 1)
+    assert first != relative_text("='Sheet A2'!B2&\"C3\"", 2, 1)
 
 
 def test_references_and_constants_become_placeholders():
@@ -53,7 +57,11 @@ def test_whole_columns_and_rows_are_bounded_by_the_used_range():
 
 
 def test_names_local_to_the_sheet_win_over_global_ones():
-    names = [Name("rate", "10"), Name("rate", "99", local_sheet=0), Name("span", "Inputs!$A$1:$A$3")]
+    names = [
+        Name("rate", "10"),
+        Name("rate", "99", local_sheet=0),
+        Name("span", "Inputs!$A$1:$A$3"),
+    ]
     ctx = _context(names)
     assert ctx.structure("=rate*2", 1, 1, 0).consts[0] == ("_K0", 99)
     assert ctx.structure("=rate*2", 1, 1, 1).consts[0] == ("_K0", 10)
@@ -131,7 +139,8 @@ def test_a_whole_column_reference_never_expands_to_a_million_cells():
     ev = WorkbookModel(data, "col.xlsx").evaluate()
     grown_mib = (resource.getrusage(resource.RUSAGE_SELF).ru_maxrss - before) / 1024
     assert ev.value("S!B1") == 4
-    assert grown_mib < 50, grown_mib  # a bound, not a speed target: 1,048,576 cells would be far more
+    # a bound, not a speed target: 1,048,576 cells would be far more
+    assert grown_mib < 50, grown_mib
     assert not isinstance(ev.value("S!B1"), SheetError)
 
 

@@ -195,8 +195,9 @@ def test_leftmost_error_wins() -> None:
 
 
 def test_headless_engine_tokens() -> None:
-    schedula = pytest.importorskip("schedula")
-    operand = pytest.importorskip("formulas.tokens.operand")
+    import schedula
+    from formulas.tokens import operand
+
     base = NERNST(0.34, 2, 0.1, 1)
     assert NERNST(0.34, 2, 0.1, 1, schedula.EMPTY) == base
     assert NERNST(0.34, 2, operand.XlError("#N/A"), 1).code == "#N/A"

@@ -21,7 +21,7 @@ def close(x: object, expected: float, rel: float = 1e-3, abs_: float = 0.0) -> b
 
 def test_catalogue_is_complete_and_in_order() -> None:
     assert list(CATALOGUE_ORDER) == [n for n in CATALOGUE_ORDER if n in F]
-    assert len(CATALOGUE_ORDER) == 35
+    assert len(CATALOGUE_ORDER) == 54  # 35 + 7 (formats and packs) + 12 (cost layer)
     assert set(CATALOGUE_ORDER) == set(F)
 
 

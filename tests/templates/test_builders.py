@@ -12,16 +12,15 @@ from pathlib import Path
 from typing import Any
 
 import pytest
+from chart_parts import sheet_charts
 from openpyxl import Workbook, load_workbook
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.formula import ArrayFormula
 
 from udfs.core.errors import CellwrightError
 from udfs.core.sizing import CellSpec
-from udfs.core.sizing_table import COMPONENTS
 from udfs.core.sizing_values import spec_values
 from udfs.templates import TEMPLATES, build_demo, fill_demo, fill_spec
-from udfs.templates.__main__ import main as templates_main
 from udfs.templates.snapshot import diff_snapshots, reproducible_bytes, snapshot
 from udfs.templates.workbook_inputs import input_values, set_inputs
 
@@ -29,10 +28,11 @@ ROOT = Path(__file__).resolve().parents[2]
 COMMITTED = ROOT / "workbook_templates"
 
 SHEETS = {
-    "cell_sizing": ["Inputs", "Electrodes", "Bill of materials", "Procurement", "What-if",
-                    "Notes", "Lists"],
+    "cell_sizing": ["Inputs", "Electrodes", "Format", "Bill of materials", "Pack",
+                    "Procurement", "What-if", "Notes", "Lists"],
     "potentials": ["Potentials", "Sweep", "Notes", "Lists"],
     "electrolysis": ["Electrolysis", "Notes"],
+    "cost": ["Inputs", "Design", "Cost", "Risk", "Compare", "Notes", "Lists"],
 }
 
 
@@ -46,8 +46,8 @@ def _cell(wb: Workbook, name: str) -> Any:
     return wb[sheet][ref.replace("$", "")]
 
 
-def test_registry_names_the_three_templates() -> None:
-    assert set(TEMPLATES) == {"cell_sizing", "potentials", "electrolysis"}
+def test_registry_names_the_four_templates() -> None:
+    assert set(TEMPLATES) == {"cell_sizing", "potentials", "electrolysis", "cost"}
     assert all(callable(b) for b in TEMPLATES.values())
 
 
@@ -146,8 +146,9 @@ def test_print_settings_fit_one_page(books: dict[str, Workbook], name: str) -> N
 
 def test_cell_sizing_has_charts_and_one_formula_grids(books: dict[str, Workbook]) -> None:
     wb = books["cell_sizing"]
-    assert len(wb["Bill of materials"]._charts) == 1
-    assert len(wb["Procurement"]._charts) == 1
+    charts = sheet_charts(io.BytesIO(reproducible_bytes(wb)))
+    assert len(charts["Bill of materials"]) == 1
+    assert len(charts["Procurement"]) == 1
     for grid in ("wi_cost_per_kWh", "wi_Wh_kg"):
         sheet, ref = next(iter(wb.defined_names[grid].destinations))
         first = ref.split(":")[0].replace("$", "")
@@ -155,7 +156,25 @@ def test_cell_sizing_has_charts_and_one_formula_grids(books: dict[str, Workbook]
         assert isinstance(formula, ArrayFormula)
         assert formula.ref.replace("$", "") == ref.replace("$", "")  # one formula, whole grid
     assert wb["What-if"].conditional_formatting  # colour scales
-    assert len(books["potentials"]["Sweep"]._charts) == 1
+    potentials = sheet_charts(io.BytesIO(reproducible_bytes(books["potentials"])))
+    assert len(potentials["Sweep"]) == 1
+
+
+def test_checks_are_named_cells_and_unread_rows_are_greyed(books: dict[str, Workbook]) -> None:
+    from udfs.templates.sizing_checks import RULES
+
+    wb = books["cell_sizing"]
+    for rule in RULES:  # the convention `cellwright calc` relies on: warn_... / err_...
+        assert rule.name.startswith(("warn_", "err_")), rule.name
+        cell = _cell(wb, rule.name)
+        assert cell.parent.title == "Inputs" and str(cell.value).startswith("="), rule.name
+    summary = str(_cell(wb, "out_checks").value)
+    assert all(rule.name in summary for rule in RULES)  # "all checks pass" reads every rule
+    rules = [r for cf in wb["Inputs"].conditional_formatting for r in cf.rules]
+    assert any("not used" in (r.formula or [""])[0] for r in rules)
+    assert wb["Pack"].conditional_formatting  # the 60 V DC caution band
+    for name in ("use_wall", "use_cathode_first_charge", "geo_cell_volume_cm3", "pack_caution"):
+        assert name in wb.defined_names, name
 
 
 def test_drop_downs_are_fed_by_the_catalogue(books: dict[str, Workbook]) -> None:
@@ -179,7 +198,7 @@ def test_drop_downs_are_fed_by_the_catalogue(books: dict[str, Workbook]) -> None
 @pytest.mark.parametrize("name", sorted(SHEETS))
 def test_committed_template_equals_its_builder(name: str) -> None:
     path = COMMITTED / f"{name}.xlsx"
-    assert path.is_file(), f"{path} missing: run python -m udfs.templates --write"
+    assert path.is_file(), f"{path} missing: run python -m udfs.app.templates --write"
     diffs = diff_snapshots(snapshot(load_workbook(path)), snapshot(TEMPLATES[name]()))
     assert not diffs, "\n".join([f"{path.name} drifted from its builder:", *diffs])
 
@@ -202,22 +221,6 @@ def test_builder_output_is_reproducible_bytes() -> None:
     b = reproducible_bytes(TEMPLATES["potentials"]())
     assert a == b
     assert snapshot(load_workbook(io.BytesIO(a))) == snapshot(load_workbook(io.BytesIO(b)))
-
-
-def test_write_then_check_command(
-    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
-) -> None:
-    monkeypatch.delitem(TEMPLATES, "cell_sizing")  # the two small ones are enough here
-    assert templates_main(["--write", "--dir", str(tmp_path)]) == 0
-    assert sorted(p.name for p in tmp_path.iterdir()) == sorted(f"{n}.xlsx" for n in TEMPLATES)
-    assert templates_main(["--check", "--dir", str(tmp_path)]) == 0
-    wb = load_workbook(tmp_path / "potentials.xlsx")
-    wb["Potentials"]["B2"] = "edited"
-    wb.save(tmp_path / "potentials.xlsx")
-    assert templates_main(["--check", "--dir", str(tmp_path)]) == 1
-    assert "differs from its builder" in capsys.readouterr().out
-    assert templates_main(["--write", "--dir", str(tmp_path)]) == 0
-    assert templates_main(["--check", "--dir", str(tmp_path)]) == 0
 
 
 # ----------------------------------------------------------------- CellSpec <-> inputs
@@ -260,9 +263,9 @@ def test_fill_spec_refuses_what_one_workbook_cannot_hold() -> None:
     with pytest.raises(CellwrightError, match="single number"):
         fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=[10.0, 20.0],
                                cathode_loading_mg_cm2=20.0))
-    with pytest.raises(CellwrightError, match="USD/kg"):
+    with pytest.raises(CellwrightError, match="per mass or per area"):  # the table's units
         fill_spec(wb, CellSpec("NMC811", "graphite", target_capacity_Ah=10.0,
-                               cathode_loading_mg_cm2=20.0, prices={"graphite": (5.0, "EUR/kg")}))
+                               cathode_loading_mg_cm2=20.0, prices={"graphite": (5.0, "USD/L")}))
     with pytest.raises(CellwrightError, match="cell-sizing"):
         fill_spec(TEMPLATES["potentials"](), CellSpec("NMC811", "graphite",
                                                        target_capacity_Ah=10.0,
@@ -281,18 +284,3 @@ def test_demo_fill_is_labelled_demo_data() -> None:
     assert values["in_target"] == float(demo_spec().target_capacity_Ah)  # type: ignore[arg-type]
     again = fill_demo(TEMPLATES["cell_sizing"]())
     assert input_values(again) == values
-
-
-def test_components_match_the_core_bill_of_materials() -> None:
-    from udfs.app.demo import demo_spec
-    from udfs.core.sizing import design_cell
-
-    d = design_cell(demo_spec())
-    spec = demo_spec()
-    names = []
-    for c in COMPONENTS:
-        value = spec_values(spec)[c.material]
-        if c.optional and value is None:
-            continue
-        names.append(c.core_name(str(value)))
-    assert names == list(d.components)

@@ -45,9 +45,9 @@ def _samples(inp: Input) -> list[Any]:
         for bound in (d.lower, d.upper):
             if bound is not None:
                 out += [bound - 1.0, float(bound), bound + 1e-9, bound - 1e-9, bound + 1.0]
-        out += [0.0, 2.5, -7.0, 1e6]
+        out += [0.0, 2.5, -7.0, 1e6, "abc"]  # text in a number's cell: the wrong type
     elif isinstance(d, Options):
-        out += [*d.choices, "sideways"]
+        out += [*d.choices, "sideways", 3.0]
     return out
 
 

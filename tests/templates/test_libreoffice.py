@@ -38,7 +38,7 @@ pytestmark = pytest.mark.skipif(
 )
 
 #: Fewest CW-free formula cells each template must have for the check to mean something.
-MIN_COMPARED = {"cell_sizing": 100, "potentials": 15, "electrolysis": 10}
+MIN_COMPARED = {"cell_sizing": 100, "potentials": 15, "electrolysis": 10, "cost": 500}
 
 _REF = re.compile(r"^\$?[A-Z]{1,3}\$?\d+(:\$?[A-Z]{1,3}\$?\d+)?$")
 

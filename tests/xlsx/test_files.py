@@ -5,6 +5,7 @@ from __future__ import annotations
 import errno
 import os
 import stat
+from pathlib import Path
 
 import pytest
 
@@ -141,3 +142,109 @@ def test_locked_input_as_seen_by_the_reader(tmp_path, monkeypatch):
     monkeypatch.setattr("builtins.open", denied)
     with pytest.raises(FileSafetyError, match="cannot be read: permission denied"):
         read_input(src, 100)
+
+
+# ------------------------------------------------------------------ signals during a write
+#
+# A child process writes a large file through atomic_writer and receives a real signal:
+# from this process while it writes, or from itself the moment the temporary file exists
+# (the window a Ctrl-C used to hit) or while the finished file is moved into place.
+
+_SIGNAL_CHILD = r"""
+import os, signal, sys, tempfile, time
+from udfs.xlsx.files import WriteInterrupted, atomic_writer
+
+out, mode = sys.argv[1], sys.argv[2]
+if mode == "at-create":  # Ctrl-C right after the temporary file is created
+    real_mkstemp = tempfile.mkstemp
+
+    def mkstemp(*args, **kwargs):
+        made = real_mkstemp(*args, **kwargs)
+        os.kill(os.getpid(), signal.SIGINT)
+        return made
+
+    tempfile.mkstemp = mkstemp
+if mode == "at-commit":  # SIGTERM while the finished file is moved into place
+    real_link = os.link
+
+    def link(src, dst, **kwargs):
+        real_link(src, dst, **kwargs)
+        os.kill(os.getpid(), signal.SIGTERM)
+
+    os.link = link
+chunk = os.urandom(1 << 20)
+try:
+    with atomic_writer(out) as fh:
+        for i in range(16):  # 16 MiB at once
+            fh.write(chunk)
+        if mode == "external":
+            print("writing", flush=True)
+            for _ in range(200):  # then slowly, until the signal comes (10 s at most)
+                fh.write(chunk)
+                time.sleep(0.05)
+except WriteInterrupted as exc:
+    print(exc.exit_code, exc, flush=True)
+    sys.exit(exc.exit_code)
+print("finished", flush=True)
+"""
+
+
+def _signal_child(out, mode):
+    import subprocess
+    import sys
+
+    root = str(Path(__file__).resolve().parents[2])
+    env = dict(os.environ, PYTHONPATH=root)
+    return subprocess.Popen(
+        [sys.executable, "-c", _SIGNAL_CHILD, str(out), mode],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.PIPE,
+        text=True,
+        env=env,
+    )
+
+
+@pytest.mark.parametrize("sig", ["SIGTERM", "SIGHUP", "SIGINT"])
+def test_a_signal_during_a_write_removes_the_temporary_file(tmp_path, sig):
+    import signal
+
+    signum = getattr(signal, sig)
+    out = tmp_path / "big.bin"
+    child = _signal_child(out, "external")
+    assert child.stdout is not None
+    assert child.stdout.readline().strip() == "writing"
+    assert len(_leftovers(tmp_path)) == 1  # the temporary file, 16 MiB and growing
+    child.send_signal(signum)
+    stdout, stderr = child.communicate(timeout=60)
+    assert stdout.strip() == f"{128 + signum} stopped by {sig}; big.bin was not written", stderr
+    assert child.returncode == 128 + signum
+    assert _leftovers(tmp_path) == [] and not out.exists()
+
+
+def test_ctrl_c_right_after_the_temporary_file_is_created(tmp_path):
+    out = tmp_path / "big.bin"
+    child = _signal_child(out, "at-create")
+    stdout, stderr = child.communicate(timeout=60)
+    assert stdout.strip() == "130 stopped by SIGINT; big.bin was not written", stderr
+    assert child.returncode == 130
+    assert _leftovers(tmp_path) == [] and not out.exists()
+
+
+def test_a_signal_during_the_final_move_lets_the_move_finish(tmp_path):
+    out = tmp_path / "big.bin"
+    child = _signal_child(out, "at-commit")
+    stdout, stderr = child.communicate(timeout=60)
+    assert stdout.strip() == "143 stopped by SIGTERM; big.bin was written in full", stderr
+    assert child.returncode == 143
+    assert _leftovers(tmp_path) == [] and out.stat().st_size == 16 << 20
+
+
+def test_signal_handlers_are_restored_after_a_write(tmp_path):
+    import signal
+
+    before = {s: signal.getsignal(s) for s in files.STOP_SIGNALS}
+    write_bytes_atomic(tmp_path / "a.bin", b"x")
+    with pytest.raises(RuntimeError), atomic_writer(tmp_path / "b.bin") as fh:
+        fh.write(b"y")
+        raise RuntimeError("crash")
+    assert {s: signal.getsignal(s) for s in files.STOP_SIGNALS} == before

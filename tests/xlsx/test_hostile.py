@@ -11,13 +11,15 @@ import time
 import tracemalloc
 import warnings
 import zipfile
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
+from pathlib import Path
 from typing import NamedTuple
 
 import pytest
 
 from udfs.engine.model import load_model
 from udfs.sheet.error_values import SheetError
+from udfs.xlsx import guard
 from udfs.xlsx.file_errors import HostileFileError, WorkbookError
 from udfs.xlsx.guard import MAX_NESTING, Limits, PackageReport, formula_nesting
 from udfs.xlsx.reader import read_workbook
@@ -26,6 +28,7 @@ from udfs.xlsx.reader import read_workbook
 def inspect_package(data: bytes, name: str, limits: Limits | None = None) -> PackageReport:
     """Every check of a workbook: the package's, then the sheets' while they are read."""
     return read_workbook(data, name, limits or Limits()).report
+
 
 MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -151,7 +154,7 @@ def test_zip_bomb_is_refused_from_the_directory_without_inflating():
         peak = tracemalloc.get_traced_memory()[1]
     finally:
         tracemalloc.stop()
-    assert "part xl/media/bomb.bin unpacks to 80 MiB (limit 64 MiB per part)" in msg
+    assert "part xl/media/bomb.bin unpacks to 80 MiB (limit 32 MiB per part)" in msg
     assert peak < 16 * 1024 * 1024  # nothing was inflated
 
 
@@ -200,7 +203,7 @@ def test_duplicate_and_encrypted_parts():
 
 def test_millions_of_empty_rows():
     rows = "".join(f'<row r="{i}"/>' for i in range(1, 1_000_001))
-    assert "more than 250,000 rows" in refused(package(sheet=sheet_xml(rows)))
+    assert f"more than {guard.MAX_ROWS:,} rows" in refused(package(sheet=sheet_xml(rows)))
     same = "<row/>" * 3_000_000  # identical rows: stopped at the zip directory already
     assert "compresses" in refused(package(sheet=sheet_xml(same)))
 
@@ -302,10 +305,11 @@ def test_nesting_counts_calls_not_strings_or_grouping():
 # in one child process that runs all cases in turn). Safety bounds, not speed targets:
 # each run must finish within HOSTILE_SECONDS, and the child's peak resident memory
 # (interpreter, numpy, the formulas engine and C allocations included) must stay under
-# HOSTILE_PEAK_RSS_MIB. docs/bad-inputs.md states the same bounds (it reads them here).
+# HOSTILE_PEAK_RSS_MIB: the promise of udfs.xlsx.guard, which docs/bad-inputs.md states too.
 
-HOSTILE_SECONDS = 20.0
-HOSTILE_PEAK_RSS_MIB = 512
+MiB = 1024 * 1024
+HOSTILE_SECONDS = guard.PROMISED_SECONDS
+HOSTILE_PEAK_RSS_MIB = guard.PROMISED_PEAK_MIB
 
 
 def _rand(n: int, seed: int = 6) -> bytes:
@@ -374,6 +378,207 @@ def _cells(xml_cells: str) -> bytes:
     return package(sheet=sheet_xml(f'<row r="1">{xml_cells}</row>'))
 
 
+# ---- what a small file can declare, the formulas package's own model, encodings, text
+
+CIRCULAR = '<row r="1"><c r="A1"><f>B1+1</f></c><c r="B1"><f>A1*0.5</f></c></row>'
+ITERATE = '<calcPr iterate="1" iterateCount="100"/>'
+
+
+def _book(
+    rows: str = '<row r="1"><c r="A1"><v>2</v></c><c r="B1"><f>A1*3</f></c></row>',
+    after: str = "",
+    iterate: bool = False,
+    extra: Mapping[str, bytes | str] | None = None,
+) -> bytes:
+    """One sheet: ``rows``, then ``after`` (merged cells, formats, validations, hyperlinks
+    in the schema's order); ``iterate`` asks for iterative calculation."""
+    sheet = (
+        f'<worksheet xmlns="{MAIN}" xmlns:r="{REL}"><sheetData>{rows}</sheetData>{after}'
+        "</worksheet>"
+    )
+    return package(sheet=sheet, workbook=workbook_xml(ITERATE) if iterate else None, extra=extra)
+
+
+def _fallback(
+    rows: str = "", after: str = "", extra: Mapping[str, bytes | str] | None = None
+) -> bytes:
+    """A circular reference under iterative calculation: the plan declines the workbook."""
+    return _book(CIRCULAR + rows, after, iterate=True, extra=extra)
+
+
+def _merges(refs: Iterable[str]) -> str:
+    cells = "".join(f'<mergeCell ref="{r}"/>' for r in refs)
+    return f"<mergeCells>{cells}</mergeCells>"
+
+
+def _links(refs: Iterable[str]) -> str:
+    return (
+        "<hyperlinks>"
+        + "".join(f'<hyperlink ref="{r}" location="S!A1"/>' for r in refs)
+        + ("</hyperlinks>")
+    )
+
+
+def _formats(sqref: str) -> str:
+    return (
+        f'<conditionalFormatting sqref="{sqref}"><cfRule type="cellIs" priority="1" '
+        'operator="greaterThan"><formula>0</formula></cfRule></conditionalFormatting>'
+    )
+
+
+def _validations(sqref: str) -> str:
+    return (
+        f'<dataValidations count="1"><dataValidation type="whole" sqref="{sqref}">'
+        "<formula1>0</formula1></dataValidation></dataValidations>"
+    )
+
+
+def _styles(fonts: int = 1, formats: int = 1) -> str:
+    """A styles part with ``fonts`` fonts and ``formats`` cell formats (varied, as real
+    files are, so that the part compresses as they do)."""
+    font = "".join(f'<font><sz val="{8 + i % 29}"/><name val="F{i}"/></font>' for i in range(fonts))
+    xf = "".join(
+        f'<xf numFmtId="{i % 164}" fontId="{i % fonts}" fillId="0" borderId="0" xfId="0"/>'
+        for i in range(formats)
+    )
+    return (
+        f'<styleSheet xmlns="{MAIN}"><fonts count="{fonts}">{font}</fonts>'
+        '<fills count="1"><fill><patternFill patternType="none"/></fill></fills>'
+        '<borders count="1"><border/></borders>'
+        '<cellStyleXfs count="1"><xf numFmtId="0" fontId="0" fillId="0" borderId="0"/>'
+        f'</cellStyleXfs><cellXfs count="{formats}">{xf}</cellXfs></styleSheet>'
+    )
+
+
+def _encoded(encoding: str, codec: str) -> bytes:
+    """A sheet part written in ``codec`` that says ``encoding``, with text that needs it."""
+    rows = (
+        '<row r="1"><c r="A1" t="inlineStr"><is><t>Größe µm</t></is></c>'
+        '<c r="B1"><f>LEN(A1)</f></c></row>'
+    )
+    part = f'<?xml version="1.0" encoding="{encoding}"?>' + sheet_xml(rows)
+    return package(sheet=part.encode(codec))
+
+
+def _words(n: int, seed: int = 7) -> str:
+    """``n`` characters of words from a small vocabulary: compresses about 6:1, as text does."""
+    rnd = random.Random(seed)
+    vocabulary = [
+        "anode",
+        "cathode",
+        "binder",
+        "slurry",
+        "current",
+        "collector",
+        "separator",
+        "cell",
+        "pack",
+        "coating",
+        "porosity",
+        "loading",
+        "capacity",
+        "energy",
+        "cost",
+        "yield",
+    ]
+    out: list[str] = []
+    size = 0
+    while size < n:
+        w = rnd.choice(vocabulary) + rnd.choice(" ,.;")
+        out.append(w)
+        size += len(w) + 1
+    return " ".join(out)[:n]
+
+
+def _text_sheet(cells: int, length: int, seed: int) -> str:
+    rows = "".join(
+        f'<row r="{i}"><c r="A{i}" t="inlineStr"><is><t>{_words(length, seed * 100_000 + i)}'
+        "</t></is></c></row>"
+        for i in range(1, cells + 1)
+    )
+    return rows
+
+
+def _big_text(sheets: int, cells: int, length: int) -> bytes:
+    """``sheets`` sheets of ``cells`` text cells of ``length`` characters, and a formula."""
+    names = [f"S{k}" for k in range(1, sheets + 1)]
+    wb = (
+        f'<workbook xmlns="{MAIN}" xmlns:r="{REL}"><sheets>'
+        + "".join(
+            f'<sheet name="{n}" sheetId="{k}" r:id="rId{k}"/>' for k, n in enumerate(names, 1)
+        )
+        + "</sheets></workbook>"
+    )
+    rels = (
+        f'<Relationships xmlns="{PKG_REL}">'
+        + "".join(
+            f'<Relationship Id="rId{k}" Type="{REL}/worksheet" Target="worksheets/sheet{k}.xml"/>'
+            for k in range(1, sheets + 1)
+        )
+        + "</Relationships>"
+    )
+    types = CONTENT_TYPES.replace(
+        '<Override PartName="/xl/sharedStrings.xml"',
+        "".join(
+            f'<Override PartName="/xl/worksheets/sheet{k}.xml" ContentType="application/vnd.'
+            'openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>'
+            for k in range(2, sheets + 1)
+        )
+        + '<Override PartName="/xl/sharedStrings.xml"',
+    )
+    rels = rels.replace(
+        "</Relationships>",
+        f'<Relationship Id="rIdS" Type="{REL}/sharedStrings" '
+        'Target="sharedStrings.xml"/></Relationships>',
+    )
+    parts: dict[str, bytes | str] = {
+        "[Content_Types].xml": types,
+        "xl/_rels/workbook.xml.rels": rels,
+    }
+    for k in range(1, sheets + 1):
+        formula = f'<row r="{cells + 1}"><c r="B{cells + 1}"><f>LEN(A1)+COUNTA(A:A)</f></c></row>'
+        parts[f"xl/worksheets/sheet{k}.xml"] = sheet_xml(_text_sheet(cells, length, k) + formula)
+    return package(workbook=wb, extra=parts)
+
+
+def _big_strings(count: int, length: int) -> bytes:
+    sst = "".join(f"<si><t>{_words(length, i)}</t></si>" for i in range(count))
+    rows = "".join(
+        f'<row r="{i}"><c r="A{i}" t="s"><v>{i - 1}</v></c></row>' for i in range(1, count + 1)
+    )
+    rows += f'<row r="{count + 1}"><c r="B{count + 1}"><f>LEN(A1)</f></c></row>'
+    return package(sheet=sheet_xml(rows), strings=f'<sst xmlns="{MAIN}">{sst}</sst>')
+
+
+def _grid_of_values(n: int, width: int = 5) -> str:
+    """Rows 2.. holding ``n`` numbers, ``width`` to a row."""
+    letters = "ABCDEFGHIJ"[:width]
+    rows = []
+    for r in range(2, 2 + -(-n // width)):
+        k = (r - 2) * width
+        cells = "".join(
+            f'<c r="{c}{r}"><v>{k + j}</v></c>' for j, c in enumerate(letters) if k + j < n
+        )
+        rows.append(f'<row r="{r}">{cells}</row>')
+    return "".join(rows)
+
+
+def _names(n: int) -> bytes:
+    """``n`` defined names, each naming a cell of column A; B1 sums the column."""
+    names = "".join(
+        f'<definedName name="input_{i}">S!$A${i}</definedName>' for i in range(1, n + 1)
+    )
+    rows = "".join(
+        f'<row r="{i}"><c r="A{i}"><v>{i}</v></c>'
+        + ('<c r="B1"><f>SUM(A:A)</f></c>' if i == 1 else "")
+        + "</row>"
+        for i in range(1, n + 1)
+    )
+    return package(
+        sheet=sheet_xml(rows), workbook=workbook_xml(f"<definedNames>{names}</definedNames>")
+    )
+
+
 class Hostile(NamedTuple):
     """A hostile workbook, the exit code of ``cellwright calc`` and its message."""
 
@@ -400,7 +605,7 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         "zip bomb (80 MiB of zeros in one part)",
         lambda: package(extra={"xl/media/bomb.bin": bytes(80 * 1024 * 1024)}),
         1,
-        "unpacks to 80 MiB (limit 64 MiB per part)",
+        "unpacks to 80 MiB (limit 32 MiB per part)",
     ),
     Hostile(
         "part compressed past 100:1 (4 MiB of zeros)",
@@ -428,7 +633,7 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         "1,048,576 empty rows (a whole sheet)",
         lambda: package(sheet=sheet_xml("".join(f'<row r="{i}"/>' for i in range(1, 1_048_577)))),
         1,
-        "more than 250,000 rows",
+        f"more than {guard.MAX_ROWS:,} rows",
     ),
     Hostile(
         "3,000,000 identical empty rows",
@@ -437,10 +642,12 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         "compresses",
     ),
     Hostile(
-        "200,001 formula cells (the default limit)",
-        lambda: _cells("".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, 200_002))),
+        f"{guard.MAX_FORMULA_CELLS + 1:,} formula cells (the default limit)",
+        lambda: _cells(
+            "".join(f'<c r="A{i}"><f>{i}+1</f></c>' for i in range(1, guard.MAX_FORMULA_CELLS + 2))
+        ),
         1,
-        "more than 200,000 formula cells",
+        f"more than {guard.MAX_FORMULA_CELLS:,} formula cells",
     ),
     Hostile(
         "10,001 formula cells with --max-formulas 10000",
@@ -448,6 +655,19 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         1,
         "more than 10,000 formula cells",
         flags=("--max-formulas", "10000"),
+    ),
+    Hostile(
+        "a range growing down the column (SUM(A$1:An)) over 100,000 rows",
+        lambda: _growing_sums(100_000),
+        1,
+        "cells of ranges in all (limit",
+    ),
+    Hostile(
+        f"a sheet of {guard.MAX_PART_BYTES // MiB} MiB of different formulas of "
+        f"{guard.MAX_FORMULA_LENGTH:,} characters",
+        lambda: _long_formulas(guard.MAX_PART_BYTES // (guard.MAX_FORMULA_LENGTH + 80)),
+        1,
+        "distinct formulas hold more than",
     ),
     Hostile(
         "formula nested 65 deep (Excel: 64)",
@@ -507,6 +727,157 @@ HOSTILE_FILES: tuple[Hostile, ...] = (
         "external links not followed",
         reported=True,
     ),
+    # what a small file can declare: bounded before any work grows with it
+    Hostile(
+        "one merged range over the whole sheet (a 1.4 KB file)",
+        lambda: _book(after=_merges(["A1:XFD1048576"])),
+        1,
+        f"cover 17,179,869,184 cells (limit {guard.MAX_CELLS:,})",
+    ),
+    Hostile(
+        "one hyperlink over the whole sheet",
+        lambda: _book(after=_links(["A1:XFD1048576"])),
+        1,
+        "hyperlink ranges on sheet 'S' and before cover 17,179,869,184 cells",
+    ),
+    Hostile(
+        "an array formula over B2:B1048576",
+        lambda: _book(
+            '<row r="1"><c r="A1"><v>2</v></c></row>'
+            '<row r="2"><c r="B2"><f t="array" ref="B2:B1048576">A1*2</f></c></row>'
+        ),
+        1,
+        "an array formula on sheet 'S' fills 1,048,575 cells; more than "
+        f"{guard.MAX_FORMULA_CELLS:,} formula cells",
+    ),
+    Hostile(
+        "500,000 merged ranges",
+        lambda: _book(after=_merges(f"C{i}:D{i}" for i in range(1, 500_001))),
+        1,
+        f"more than {guard.MAX_RANGES:,} mergeCell ranges",
+    ),
+    Hostile(
+        f"{guard.MAX_RANGES + 1:,} ranges in one data validation",
+        lambda: _book(
+            after=_validations(" ".join(f"C{i}" for i in range(1, guard.MAX_RANGES + 2)))
+        ),
+        1,
+        f"more than {guard.MAX_RANGES:,} dataValidation ranges",
+    ),
+    Hostile(
+        f"{guard.MAX_RANGES + 1:,} ranges in one conditional format",
+        lambda: _book(after=_formats(" ".join(f"C{i}" for i in range(1, guard.MAX_RANGES + 2)))),
+        1,
+        f"more than {guard.MAX_RANGES:,} conditionalFormatting ranges",
+    ),
+    Hostile(
+        f"{guard.MAX_STYLES + 1:,} cell formats",
+        lambda: _book(extra={"xl/styles.xml": _styles(formats=guard.MAX_STYLES + 1)}),
+        1,
+        f"more than {guard.MAX_STYLES:,} entries in cellXfs of xl/styles.xml",
+    ),
+    Hostile(
+        f"{guard.MAX_STYLES + 1:,} fonts in xl/styles.xml, no relationship naming it",
+        lambda: _book(extra={"xl/styles.xml": _styles(fonts=guard.MAX_STYLES + 1)}),
+        1,
+        f"more than {guard.MAX_STYLES:,} entries in fonts of xl/styles.xml",
+    ),
+    Hostile(
+        "a text cell of 32,768 characters (Excel: 32,767)",
+        lambda: _cells(f'<c r="A1" t="inlineStr"><is><t>{"x" * 32_768}</t></is></c>'),
+        1,
+        "holds 32,768 characters of text (limit 32,767, as in Excel)",
+    ),
+    Hostile(
+        "a cell past the end of the sheet (row 2,000,000)",
+        lambda: _book('<row r="2000000"><c r="A2000000"><v>1</v></c></row>'),
+        1,
+        "lies outside the sheet (row 2,000,000, column 1",
+    ),
+    Hostile(
+        "a defined name that is a formula (reported, ignored)",
+        lambda: package(
+            workbook=workbook_xml(
+                '<definedNames><definedName name="=HYPERLINK(&quot;http://x&quot;,1)">S!$A$1'
+                "</definedName></definedNames>"
+            )
+        ),
+        0,
+        "defined names that are not valid names ignored: '=HYPERLINK",
+        reported=True,
+    ),
+    # encodings: UTF-8 and UTF-16 only, as the Open Packaging Conventions require
+    Hostile(
+        "a sheet in ISO-8859-1",
+        lambda: _encoded("ISO-8859-1", "latin-1"),
+        1,
+        "xl/worksheets/sheet1.xml is written in the encoding 'ISO-8859-1'; the parts of a "
+        "workbook must be UTF-8 or UTF-16",
+    ),
+    Hostile(
+        "a sheet in UTF-16 without its byte-order mark",
+        lambda: package(
+            sheet=('<?xml version="1.0" encoding="UTF-16"?>' + sheet_xml()).encode("utf-16-be")
+        ),
+        1,
+        "xl/worksheets/sheet1.xml is written in UTF-16 without a byte-order mark",
+    ),
+    Hostile(
+        "a sheet in windows-1252",
+        lambda: _encoded("windows-1252", "cp1252"),
+        1,
+        "is written in the encoding 'windows-1252'",
+    ),
+    # the formulas package's own model (the plan declines a circular reference under
+    # iterative calculation): its narrower limits, before openpyxl reads anything
+    Hostile(
+        "iterative circular reference, a merged range C1:C200000",
+        lambda: _fallback(after=_merges(["C1:C200000"])),
+        1,
+        f"which takes at most {guard.MAX_FALLBACK_CELLS:,} cell positions from A1 to the last "
+        "cell; this workbook has 600,000; sheet 'S' reaches row 200,000, column 3",
+    ),
+    Hostile(
+        "iterative circular reference, a hyperlink over C1:C200000",
+        lambda: _fallback(after=_links(["C1:C200000"])),
+        1,
+        f"which takes at most {guard.MAX_FALLBACK_CELLS:,} cell positions",
+    ),
+    Hostile(
+        "iterative circular reference, two cells far apart (A1 and XFD20000)",
+        lambda: _fallback('<row r="20000"><c r="XFD20000"><v>1</v></c></row>'),
+        1,
+        "this workbook has 327,680,000; sheet 'S' reaches row 20,000, column 16,384",
+    ),
+    Hostile(
+        f"iterative circular reference, {guard.MAX_FALLBACK_FORMULAS + 1:,} formula cells",
+        lambda: _fallback(
+            "".join(
+                f'<row r="{i}"><c r="A{i}"><f>B1+{i}</f></c></row>'
+                for i in range(2, guard.MAX_FALLBACK_FORMULAS + 1)
+            )
+        ),
+        1,
+        f"which takes at most {guard.MAX_FALLBACK_FORMULAS:,} formula cells; this workbook "
+        f"has {guard.MAX_FALLBACK_FORMULAS + 1:,}",
+    ),
+    Hostile(
+        "iterative circular reference, hyperlinks on 1,001 merged ranges",
+        lambda: _fallback(
+            after=_merges(f"C{i}:D{i}" for i in range(1, 1002))
+            + _links(f"C{i}" for i in range(1, 1002))
+        ),
+        1,
+        f"which takes at most {guard.MAX_FALLBACK_RANGES:,} merged, hyperlinked",
+    ),
+    Hostile(
+        "iterative circular reference, 9 MiB of XML",
+        lambda: _fallback(
+            extra={"docProps/custom.xml": f"<r>{_rand(9 * 1024 * 1024).hex()[: 9 << 20]}</r>"}
+        ),
+        1,
+        f"which takes at most {guard.MAX_FALLBACK_XML_BYTES:,} bytes of XML",
+    ),
 )
 
 
@@ -524,6 +895,288 @@ def test_hostile_file_through_calc(case: Hostile) -> None:
     assert case.fragment in line, result.stderr
     assert run.input_unchanged  # the input's bytes never change
     assert run.wrote_output == case.reported  # a refused file writes nothing
+
+
+class AtLimit(NamedTuple):
+    """A workbook at the limits (or in an encoding we read): ``cellwright calc`` evaluates
+    it and writes the result within the promised time and memory."""
+
+    label: str
+    build: Callable[[], bytes]
+    flags: tuple[str, ...] = ()
+
+
+def _distinct(i: int) -> str:
+    """Formula ``i`` of a column of formulas that all differ (their constants do)."""
+    return f"A{i}*{i}+{i % 97}"
+
+
+def _distinct_count() -> int:
+    """As many different formulas as the formula-text limit lets through."""
+    total = count = 0
+    while count < guard.MAX_FORMULA_CELLS:
+        size = len(_distinct(count + 1)) + 1  # counted with its "="
+        if total + size > guard.MAX_FORMULA_TEXT:
+            break
+        total += size
+        count += 1
+    return count
+
+
+def _at_limits() -> tuple[AtLimit, ...]:
+    g = guard
+    n = g.MAX_FORMULA_CELLS
+    text_cells = g.MAX_PART_BYTES // 32_900  # cells of 32,767 characters in one part
+    return (
+        AtLimit(
+            f"{g.MAX_CELLS:,} cells: numbers, and a SUM over them",
+            lambda: _book(
+                '<row r="1"><c r="A1"><f>SUM(A2:E200001)</f></c></row>'
+                + _grid_of_values(g.MAX_CELLS - 1)
+            ),
+        ),
+        AtLimit(
+            f"{n:,} formula cells, each reading the one before",
+            lambda: _book(
+                '<row r="1"><c r="A1"><f>1</f></c></row>'
+                + "".join(
+                    f'<row r="{i}"><c r="A{i}"><f>A{i - 1}+1</f></c></row>' for i in range(2, n + 1)
+                )
+            ),
+        ),
+        AtLimit(
+            f"{_distinct_count():,} formula cells, all different (the formula-text limit)",
+            lambda: _book(
+                "".join(
+                    f'<row r="{i}"><c r="A{i}"><v>{i}</v></c>'
+                    f'<c r="B{i}"><f>{_distinct(i)}</f></c></row>'
+                    for i in range(1, _distinct_count() + 1)
+                )
+            ),
+        ),
+        AtLimit(
+            f"an array formula filling {n:,} cells",
+            lambda: _book(
+                f'<row r="1"><c r="A1"><v>1</v></c><c r="B1"><f t="array" ref="B1:B{n}">'
+                f"A1:A{n}*2</f></c></row>"
+                + "".join(f'<row r="{i}"><c r="A{i}"><v>{i}</v></c></row>' for i in range(2, n + 1))
+            ),
+        ),
+        AtLimit(
+            f"a merged range and a hyperlink, each over {g.MAX_CELLS:,} cells",
+            lambda: _book(after=_merges([f"C1:C{g.MAX_CELLS}"]) + _links([f"D1:D{g.MAX_CELLS}"])),
+        ),
+        AtLimit(
+            f"{g.MAX_RANGES:,} merged ranges, data-validation and conditional-format ranges each",
+            lambda: _book(
+                after=_merges(f"C{i}:D{i}" for i in range(1, g.MAX_RANGES + 1))
+                + _formats(" ".join(f"E{i}" for i in range(1, g.MAX_RANGES + 1)))
+                + _validations(" ".join(f"F{i}" for i in range(1, g.MAX_RANGES + 1)))
+            ),
+        ),
+        AtLimit(
+            f"{g.MAX_STYLES:,} cell formats and {g.MAX_STYLES:,} fonts",
+            lambda: _book(
+                extra={"xl/styles.xml": _styles(fonts=g.MAX_STYLES, formats=g.MAX_STYLES)}
+            ),
+        ),
+        AtLimit(
+            f"a sheet of {g.MAX_PART_BYTES // MiB} MiB: text cells of 32,767 characters",
+            lambda: _big_text(1, text_cells, 32_767),
+        ),
+        AtLimit(
+            f"shared strings of {g.MAX_PART_BYTES // MiB} MiB",
+            lambda: _big_strings(text_cells, 32_767),
+        ),
+        AtLimit(
+            f"{g.MAX_TOTAL_BYTES // g.MAX_PART_BYTES} such sheets: "
+            f"{g.MAX_TOTAL_BYTES // MiB} MiB of parts",
+            lambda: _big_text(g.MAX_TOTAL_BYTES // g.MAX_PART_BYTES, text_cells, 32_767),
+        ),
+        AtLimit(f"{g.MAX_DEFINED_NAMES:,} defined names", lambda: _names(g.MAX_DEFINED_NAMES)),
+        AtLimit(
+            f"{g.MAX_ROWS:,} rows",
+            lambda: _book(
+                '<row r="1"><c r="B1"><f>SUM(A:A)</f></c></row>'
+                + "".join(
+                    f'<row r="{i}"><c r="A{i}"><v>{i}</v></c></row>'
+                    for i in range(2, g.MAX_ROWS + 1)
+                )
+            ),
+        ),
+        AtLimit("a sheet in UTF-16", lambda: _encoded("UTF-16", "utf-16")),
+        AtLimit("every limit of the plan at once", _everything_at_once),
+        AtLimit(
+            "iterative circular reference: the formulas package's own model at its limits "
+            f"({g.MAX_FALLBACK_CELLS:,} cell positions, {g.MAX_FALLBACK_FORMULAS:,} formula "
+            f"cells, {g.MAX_FALLBACK_RANGES:,} ranges)",
+            _fallback_at_limits,
+        ),
+        AtLimit(
+            "iterative circular reference: the formulas package's own model with "
+            f"{g.MAX_FALLBACK_XML_BYTES // MiB} MiB of XML (styles)",
+            lambda: _fallback(extra={"xl/styles.xml": _styles(fonts=40_000, formats=g.MAX_STYLES)}),
+        ),
+        AtLimit(
+            f"a range growing down the column (SUM(A$1:An)) over {_GROWING:,} rows: "
+            f"{_GROWING * (_GROWING + 1) // 2:,} cells read, within {g.MAX_CELL_READS:,}",
+            lambda: _growing_sums(_GROWING),
+        ),
+        AtLimit(
+            f"a formula of {g.MAX_FORMULA_LENGTH:,} characters: 1+2+3+... (a long chain of +)",
+            lambda: _cells(f'<c r="A1"><f>{_sum_chain(g.MAX_FORMULA_LENGTH)}</f></c>'),
+        ),
+        AtLimit(
+            f"different formulas of {g.MAX_FORMULA_LENGTH:,} characters, "
+            f"{g.MAX_FORMULA_TEXT:,} characters in all",
+            lambda: _long_formulas(g.MAX_FORMULA_TEXT // (g.MAX_FORMULA_LENGTH + 80)),
+        ),
+    )
+
+
+#: rows of SUM(A$1:An) whose cells read stay within MAX_CELL_READS
+_GROWING = int((2 * guard.MAX_CELL_READS) ** 0.5) - 1
+
+
+def _growing_sums(rows: int) -> bytes:
+    return _book(
+        "".join(
+            f'<row r="{i}"><c r="A{i}"><v>{i}</v></c><c r="B{i}"><f>SUM(A$1:A{i})</f></c></row>'
+            for i in range(1, rows + 1)
+        )
+    )
+
+
+def _sum_chain(length: int) -> str:
+    """1+2+3+... as long as ``length`` allows."""
+    terms: list[str] = []
+    size = -1
+    k = 1
+    while size + len(str(k)) + 1 <= length:
+        terms.append(str(k))
+        size += len(str(k)) + 1
+        k += 1
+    return "+".join(terms)
+
+
+def _long_formulas(count: int) -> bytes:
+    """``count`` formulas of about MAX_FORMULA_LENGTH characters, each different: sums of
+    products of cells of column A with constants (nesting 2, 120 arguments a call)."""
+    length = guard.MAX_FORMULA_LENGTH
+
+    def formula(i: int) -> str:
+        calls: list[str] = []
+        size = 5
+        j = 0
+        while True:
+            args = ",".join(f"A{(i * 31 + j * 7 + k) % count + 1}*{k + j}" for k in range(120))
+            call = f"SUM({args})"
+            if size + len(call) + 1 > length:
+                break
+            calls.append(call)
+            size += len(call) + 1
+            j += 1
+        return "SUM(" + ",".join(calls) + ")"
+
+    rows = "".join(
+        f'<row r="{i}"><c r="A{i}"><v>{i}</v></c><c r="B{i}"><f>{formula(i)}</f></c></row>'
+        for i in range(1, count + 1)
+    )
+    return _book(rows)
+
+
+def _fallback_at_limits() -> bytes:
+    """MAX_FALLBACK_CELLS positions in 1,000 rows: the circular pair, then formulas in column
+    C up to the formula limit, numbers elsewhere; half the range limit in merged ranges and
+    half in hyperlinks on merged cells (openpyxl looks each up among the merged ranges)."""
+    g = guard
+    cols = g.MAX_FALLBACK_CELLS // 1000
+    letters = "ABCDEFGHIJKLMNOPQRSTUVWXYZ"[:cols]
+    rows = []
+    for r in range(2, 1001):
+        cells = []
+        for c in letters:
+            if c == "C" and r <= g.MAX_FALLBACK_FORMULAS - 1:
+                cells.append(f'<c r="C{r}"><f>A{r}*2+B1</f></c>')
+            else:
+                cells.append(f'<c r="{c}{r}"><v>{r}</v></c>')
+        rows.append(f'<row r="{r}">{"".join(cells)}</row>')
+    half = g.MAX_FALLBACK_RANGES // 2
+    after = _merges(f"E{r}:F{r}" for r in range(2, 2 + half)) + _links(
+        f"F{r}" for r in range(2, 2 + half)
+    )
+    return _fallback("".join(rows), after)
+
+
+def _everything_at_once() -> bytes:
+    """Every limit of the plan reached in one workbook: formula cells up to the cell
+    limit, as many of them different as the formula-text limit allows, the rest filled
+    down; the ranges of each kind; the names; the styles; and a second sheet of long
+    text as large as a part may be."""
+    g = guard
+    text_cells = g.MAX_PART_BYTES // 32_900
+    n = min(g.MAX_FORMULA_CELLS, (g.MAX_CELLS - text_cells - 10) // 2)  # a number, a formula
+    distinct = _distinct_count()
+    rows = "".join(
+        f'<row r="{i}"><c r="A{i}"><v>{i}</v></c>'
+        f'<c r="B{i}"><f>{_distinct(i) if i <= distinct else f"A{i}*2"}</f></c></row>'
+        for i in range(1, n + 1)
+    )
+    after = (
+        _merges(f"H{i}:I{i}" for i in range(1, g.MAX_RANGES + 1))
+        + _formats(" ".join(f"J{i}" for i in range(1, g.MAX_RANGES + 1)))
+        + _validations(" ".join(f"K{i}" for i in range(1, g.MAX_RANGES + 1)))
+    )
+    sheet = (
+        f'<worksheet xmlns="{MAIN}" xmlns:r="{REL}"><sheetData>{rows}</sheetData>{after}'
+        "</worksheet>"
+    )
+    names = "".join(
+        f'<definedName name="input_{i}">S!$A${i}</definedName>'
+        for i in range(1, g.MAX_DEFINED_NAMES + 1)
+    )
+    wb = (
+        f'<workbook xmlns="{MAIN}" xmlns:r="{REL}"><sheets><sheet name="S" sheetId="1" '
+        'r:id="rId1"/><sheet name="T" sheetId="2" r:id="rId3"/></sheets>'
+        f"<definedNames>{names}</definedNames></workbook>"
+    )
+    rels = WB_RELS.replace(
+        "</Relationships>",
+        f'<Relationship Id="rId3" Type="{REL}/worksheet" Target="worksheets/sheet2.xml"/>'
+        "</Relationships>",
+    )
+    types = CONTENT_TYPES.replace(
+        '<Override PartName="/xl/sharedStrings.xml"',
+        '<Override PartName="/xl/worksheets/sheet2.xml" ContentType="application/vnd.'
+        'openxmlformats-officedocument.spreadsheetml.worksheet+xml"/>'
+        '<Override PartName="/xl/sharedStrings.xml"',
+    )
+    return package(
+        sheet=sheet,
+        workbook=wb,
+        extra={
+            "xl/worksheets/sheet2.xml": sheet_xml(_text_sheet(text_cells, 32_767, 3)),
+            "xl/_rels/workbook.xml.rels": rels,
+            "[Content_Types].xml": types,
+            "xl/styles.xml": _styles(fonts=g.MAX_STYLES, formats=g.MAX_STYLES),
+        },
+    )
+
+
+AT_LIMITS: tuple[AtLimit, ...] = _at_limits()
+
+
+@pytest.mark.parametrize("case", AT_LIMITS, ids=lambda a: a.label)
+def test_within_the_limits_through_calc(case: AtLimit) -> None:
+    from bad_input_catalogue import limit_run
+
+    run = limit_run(case.label)  # in a child process of its own
+    result = run.result
+    assert result.code == 0, result.stderr
+    assert "Traceback" not in result.stderr and "internal error" not in result.stderr
+    assert run.seconds < HOSTILE_SECONDS, f"{case.label}: {run.seconds:.1f} s"
+    assert run.peak_rss_mib < HOSTILE_PEAK_RSS_MIB, f"{case.label}: {run.peak_rss_mib:.0f} MiB"
+    assert run.input_unchanged and run.wrote_output
 
 
 def test_round_with_absurd_digits_is_an_error_not_a_hang(tmp_path):
@@ -554,3 +1207,60 @@ def test_round_with_absurd_digits_is_an_error_not_a_hang(tmp_path):
     assert ev.value("S!B3") == pytest.approx(2.4)
     assert ev.value("S!B4") == pytest.approx(-2.3)
     assert ev.value("S!B5") == -1
+
+
+# ------------------------------------------------------------------ under a memory cap
+#
+# A workbook at the limits run with less address space than it needs: the command must
+# say so on one line and stop (exit 1), never print a chain of tracebacks or hang while
+# the interpreter shuts down. The cap is set in the child once everything is imported:
+# the address space it already maps, plus a little.
+
+_CAPPED_CHILD = r"""
+import resource, sys
+from udfs.cli import main
+import udfs.app.calc, udfs.app.report, udfs.engine.model  # noqa: F401
+import scipy.special, scipy.stats  # noqa: F401  (what evaluation imports lazily)
+
+def mapped():
+    with open("/proc/self/status") as fh:
+        return next(int(x.split()[1]) * 1024 for x in fh if x.startswith("VmSize:"))
+
+extra = int(sys.argv[1]) << 20
+resource.setrlimit(resource.RLIMIT_AS, (mapped() + extra, resource.RLIM_INFINITY))
+sys.exit(main(sys.argv[2:]))
+"""
+
+
+@pytest.fixture(scope="module")
+def large_book(tmp_path_factory):
+    path = tmp_path_factory.mktemp("capped") / "large.xlsx"
+    path.write_bytes(_everything_at_once())
+    return path
+
+
+@pytest.mark.skipif(not os.path.exists("/proc/self/status"), reason="needs Linux's /proc")
+# Below about 100 MiB of headroom the C XML parser (libexpat, through pyexpat) can stop
+# returning while the first sheet is read (seen in 3 of 14 runs at 50 and 75 MiB): a
+# known gap, listed in docs/bad-inputs.md, not hidden by this test.
+@pytest.mark.parametrize("extra_mib", [100, 150, 250, 280])
+def test_out_of_memory_is_one_line_and_the_end(large_book, tmp_path, extra_mib):
+    import subprocess
+    import sys
+
+    root = str(Path(__file__).resolve().parents[2])
+    out = tmp_path / "out.xlsx"
+    argv = ["calc", str(large_book), "-o", str(out)]
+    try:
+        done = subprocess.run(
+            [sys.executable, "-c", _CAPPED_CHILD, str(extra_mib), *argv],
+            capture_output=True,
+            text=True,
+            timeout=60,
+            env=dict(os.environ, PYTHONPATH=root),
+        )
+    except subprocess.TimeoutExpired as exc:
+        pytest.fail(f"still running after 60 s; stderr so far: {exc.stderr!r}")
+    assert done.returncode == 1, done.stderr
+    assert done.stderr == "cellwright calc: error: out of memory\n"
+    assert list(tmp_path.iterdir()) == []  # nothing written, no temporary file

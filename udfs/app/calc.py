@@ -31,6 +31,7 @@ from pathlib import Path
 from typing import Any
 
 from udfs.core.errors import CellwrightError
+from udfs.engine.functions import to_cell
 from udfs.engine.model import Evaluation, WorkbookModel, load_model
 from udfs.sheet.error_values import CellValue, SheetError
 from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
@@ -153,11 +154,13 @@ def _edits(model: WorkbookModel, evaluation: Evaluation, strip: bool) -> dict[Ce
     cells not evaluated, or computed from them, stay as they are."""
     frozen = model.not_evaluated | model.untrusted
     edits: dict[CellRef, Edit] = {}
+    computed = evaluation.result.values
+    formula = "" if strip else None
+    names = [s.name for s in model.sheets]
     for key in model.formula_keys:
-        if key in frozen:
-            continue
-        ref = model.ref_of(key)
-        edits[ref] = Edit(evaluation.values.get(ref), "" if strip else None)
+        if key not in frozen:
+            s, r, c = key
+            edits[CellRef(names[s], r, c)] = Edit(to_cell(computed.get(key)), formula)
     for ref, value in evaluation.inputs.items():
         edits[ref] = Edit(value)
     if strip:  # a kept cell of a filled-down formula keeps its own text, not the master's

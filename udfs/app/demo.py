@@ -74,10 +74,24 @@ def format_bom(
         lines = [f"Bill of materials ({DEMO_LABEL})", f"{DEMO_COMPANY}: {DEMO_PRODUCT}"]
     else:
         lines = [title]
+    fmt = design.cell_format if design.formats is None else str(
+        np.asarray(design.formats).reshape(-1)[0] if index is None else design.formats[index])
+    if np.isfinite(num("cathode_sheets")):
+        build = (f"stacked: {num('cathode_sheets'):.0f} cathode and {num('anode_sheets'):.0f} "
+                 f"anode sheets, {num('separator_layers'):.0f} separator layers")
+        layers = f"Stack thickness        {num('stack_thickness_um') / 1000.0:10.2f} mm"
+    else:
+        build = (f"wound: {num('turns'):.1f} turns, cathode strip {num('cathode_length_mm'):.0f} "
+                 f"x {num('cathode_width_mm'):.1f} mm")
+        layers = f"Roll thickness         {num('roll_thickness_mm'):10.2f} mm"
+    if np.isfinite(num("cell_diameter_mm")):
+        size = f"{num('cell_diameter_mm'):.1f} mm diameter x {num('cell_height_mm'):.1f} mm"
+    else:
+        size = (f"{num('cell_width_mm'):.1f} x {num('cell_height_mm'):.1f} x "
+                f"{num('cell_thickness_mm'):.2f} mm")
     lines += [
-        f"{design.cathode} / {design.anode}, stacked cell: {num('cathode_sheets'):.0f} cathode "
-        f"and {num('anode_sheets'):.0f} anode sheets, {num('separator_layers'):.0f} separator "
-        "layers",
+        f"{design.cathode} / {design.anode}, {fmt} cell ({design.sizing_mode} mode), {build}",
+        f"Outer size {size}",
         "",
         head,
         rule,
@@ -93,7 +107,8 @@ def format_bom(
         "",
         f"Nominal voltage        {num('nominal_voltage_V'):10.3f} V",
         f"Capacity               {num('capacity_Ah'):10.2f} Ah "
-        f"(target {num('target_capacity_Ah'):.2f} Ah)",
+        + (f"(target {num('target_capacity_Ah'):.2f} Ah)"
+           if np.isfinite(num("target_capacity_Ah")) else "(envelope mode: what fits)"),
         f"Energy                 {num('energy_Wh'):10.1f} Wh",
         f"Cell mass              {mass_total:10.1f} g",
         f"Cell volume            {num('cell_volume_cm3'):10.1f} cm3",
@@ -103,7 +118,7 @@ def format_bom(
         f"{num('cathode_coating_thickness_um'):.1f} um",
         f"Anode loading          {num('anode_loading_mg_cm2'):10.2f} mg/cm2 per side, "
         f"{num('anode_coating_thickness_um'):.1f} um",
-        f"Stack thickness        {num('stack_thickness_um') / 1000.0:10.2f} mm",
+        layers,
         f"Cost per good cell     {cost_total:10.2f} USD",
         f"Cost per kWh           {num('cost_per_kWh_USD'):10.1f} USD/kWh",
         "",

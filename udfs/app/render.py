@@ -2,7 +2,7 @@
 picture through LibreOffice (PDF) and poppler's ``pdftoppm``: the picture of
 the demo's bill of materials in the README is made this way::
 
-    python -m udfs.templates --render-bom docs/img/bom.png
+    render_sheet_png(build_demo(), "Bill of materials", "docs/img/bom.png")
 
 Needs ``soffice`` (Debian: libreoffice-calc-nogui) and ``pdftoppm``
 (poppler-utils) on PATH; says so plainly when they are missing.

@@ -11,24 +11,22 @@ bounded in length, so it can never rewrite the terminal line it is printed on.
 
 from __future__ import annotations
 
-import re
 from typing import Any
 
 from udfs.engine.model import Evaluation, WorkbookModel
 from udfs.sheet.error_values import SheetError
 
 from .calc import Finding
+from .safe_text import show
 
 __all__ = ["MAX_SHOWN", "evaluation_lines", "show_value", "shown"]
 
 MAX_SHOWN = 200
-_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f]")
 
 
 def shown(text: str, limit: int = MAX_SHOWN) -> str:
     """Workbook text for the terminal: control characters escaped, at most ``limit``."""
-    out = _CONTROL.sub(lambda m: f"\\x{ord(m.group(0)):02x}", text)
-    return out if len(out) <= limit else out[: limit - 3] + "..."
+    return show(text, limit)
 
 
 def show_value(value: Any) -> str:

@@ -6,7 +6,7 @@ value, so it shows numbers wherever it is opened, with or without the add-in.
 this way; ``--check`` says whether the committed files match their builders.
 
 >>> sorted(available())
-['cell_sizing', 'electrolysis', 'potentials']
+['cell_sizing', 'cost', 'electrolysis', 'potentials']
 """
 
 from __future__ import annotations

@@ -59,7 +59,9 @@ from .sizing import CellDesign, CellSpec, design_cell
 from .sizing_table import CELL_SIZING
 from .validate import NONNEGATIVE, check
 
-__all__ = ["DEMO_PRICES", "CellCost", "CostModel", "PriceInput", "cell_cost", "cost_model"]
+__all__ = [
+    "DEMO_PRICES", "OUTPUTS", "CellCost", "CostModel", "PriceInput", "cell_cost", "cost_model",
+]
 
 Array = NDArray[np.float64]
 #: A price as a caller gives it: a MaterialPrice, a number in USD/kg, or
@@ -244,8 +246,9 @@ class CostModel:
                ) -> dict[str, Any]:
         """The equations on plain numbers or arrays (arithmetic only): ``v``
         holds every input, ``per`` each line's quantity per kWh. Returns the
-        plant's lines (:func:`~udfs.core.conversion_cost.plant_kernel`), the
-        full cost per cell and per Ah, and each material's unit price in USD."""
+        plant's lines (:func:`~udfs.core.conversion_cost.plant_kernel`), each
+        material's unit price in USD, and the cell's energy and capacity (the
+        costs per cell and per Ah are :data:`OUTPUTS` made of them)."""
         E: Any = 0.0
         C: Any = 0.0
         unit_price: dict[str, Any] = {}
@@ -265,9 +268,8 @@ class CostModel:
                 C = C + q * unit_price[ln.material]
         out = plant_kernel(E, C, v)
         out["unit prices"] = unit_price
-        per_cell = out["full"] * energy_Wh / 1000.0
-        out["full per cell"] = per_cell
-        out["full per Ah"] = per_cell / capacity_Ah
+        out["energy_Wh"] = energy_Wh
+        out["capacity_Ah"] = capacity_Ah
         return out
 
     def __call__(self, values: Mapping[str, Any]) -> Mapping[str, Array]:
@@ -294,11 +296,12 @@ class CostModel:
         return {ix: np.asarray(s * factors[2]) for ix, s in out.items()}
 
 
-#: The outputs of :class:`CostModel` and the kernel lines each is made of.
+#: The outputs of :class:`CostModel` and the kernel lines each is made of (summed, but for
+#: the costs per cell, full x Wh / 1000, and per Ah, that / Ah).
 OUTPUTS: dict[str, tuple[str, ...]] = {
     "full_USD_kWh": ("full",),
-    "full_USD_cell": ("full per cell",),
-    "full_USD_Ah": ("full per Ah",),
+    "full_USD_cell": ("full", "energy_Wh"),
+    "full_USD_Ah": ("full", "energy_Wh", "capacity_Ah"),
     "materials_USD_kWh": ("materials in cells", "scrap", "scrap credit"),
     "conversion_USD_kWh": ("depreciation", "labour", "energy", "overhead"),
     **{f"{k}_USD_kWh".replace(" ", "_"): (k,) for k in (
@@ -316,11 +319,16 @@ class _Outputs(Mapping[str, Any]):
 
     def __getitem__(self, name: str) -> Any:
         if name not in self._done:
-            parts = OUTPUTS[name]
-            total = self._k[parts[0]]
-            for part in parts[1:]:
-                total = total + self._k[part]
-            self._done[name] = total
+            if name == "full_USD_cell":
+                value = self._k["full"] * self._k["energy_Wh"] / 1000.0
+            elif name == "full_USD_Ah":
+                value = self["full_USD_cell"] / self._k["capacity_Ah"]
+            else:
+                parts = OUTPUTS[name]
+                value = self._k[parts[0]]
+                for part in parts[1:]:
+                    value = value + self._k[part]
+            self._done[name] = value
         return self._done[name]
 
     def __iter__(self) -> Iterator[str]:

@@ -13,7 +13,7 @@ True
 >>> check_input(CELL_SIZING.names, "in_np_ratio", -1)
 Traceback (most recent call last):
 ...
-udfs.core.errors.DomainError: in_np_ratio (N/P ratio) must be > 0 (got -1)
+udfs.core.errors.DomainError: in_np_ratio (N/P ratio, first-charge basis) must be > 0 (got -1)
 >>> check_input(CELL_SIZING.names, "in_cathode", "LFP")
 'LiFePO4'
 """
@@ -23,12 +23,14 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import Any
 
+from .cost_table import COST
 from .inputs import Input, InputTable
 from .sizing_table import CELL_SIZING
 from .validate import CELSIUS, FRACTION_OPEN, NONNEGATIVE, POSITIVE, Domain, FreeText, Names
 
 __all__ = [
     "CELL_SIZING",
+    "COST",
     "ELECTROLYSIS",
     "ELECTROLYSIS_PLANTS",
     "POTENTIALS",
@@ -136,7 +138,7 @@ ELECTROLYSIS = InputTable("electrolysis", "electrolysis workbook", _electrolysis
 
 # --------------------------------------------------------------------------- registry
 
-TABLES: tuple[InputTable, ...] = (CELL_SIZING, POTENTIALS, ELECTROLYSIS)
+TABLES: tuple[InputTable, ...] = (CELL_SIZING, POTENTIALS, ELECTROLYSIS, COST)
 
 
 def table_for(names: Iterable[str]) -> InputTable | None:

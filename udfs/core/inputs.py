@@ -208,7 +208,7 @@ class InputTable:
         for a blank optional input), or a :class:`CellwrightError` whose message
         is one line naming the input, the value and what is allowed.
 
-        A defined name is named with its label (``in_np_ratio (N/P ratio) must
+        A defined name is named with its label (``in_np_ratio (N/P ratio, first-charge basis) must
         be > 0 (got -1)``); a field as the core names it (``np_ratio must be >
         0 (got -1)``), so the two reasons match the core's word for word.
         """

@@ -47,6 +47,7 @@ __all__ = [
     "Index",
     "IndexedPrice",
     "index",
+    "index_coefficient",
     "index_coefficients",
     "index_for_price",
     "index_names",
@@ -197,6 +198,22 @@ def _terms(material: str, payables: Mapping[str, ArrayLike]
     return name, terms
 
 
+def index_coefficient(material: str, index_name: str, payable: ArrayLike = 1.0) -> Array | float:
+    """``c`` of one index: t of the index's product paid per t of ``material``,
+    ``w / f x payable`` (0 when the material holds none of the index's metal).
+    ``payable`` may be an array.
+
+    >>> round(float(index_coefficient("NMC811", "nickel")), 4)   # 0.8 M(Ni) / M(NMC811)
+    0.4827
+    >>> index_coefficient("LFP", "cobalt")
+    0.0
+    """
+    ix = index(index_name, "index_name")
+    w = dict(_metals(material)[1]).get(ix.element, 0.0)
+    out = w / ix.element_fraction * check("payable", payable, PAYABLE)
+    return float(out) if out.ndim == 0 else out
+
+
 def index_coefficients(material: str, payables: Mapping[str, ArrayLike]) -> dict[str, Array]:
     """``c`` per index: t of index product paid per t of material (payable
     included). Every metal of the material needs exactly one payable.
@@ -279,15 +296,16 @@ def indexed_price(
 
 def index_for_price(
     material: str,
-    fixed_price_USD_kg: float,
+    fixed_price_USD_kg: ArrayLike,
     solve_for: str,
     index_prices_USD_t: Mapping[str, float],
     payables: Mapping[str, float],
-    conversion_fee_USD_kg: float = 0.0,
-) -> float:
+    conversion_fee_USD_kg: ArrayLike = 0.0,
+) -> Array | float:
     """The value of index ``solve_for`` (USD/t) at which the indexed price equals
     ``fixed_price_USD_kg``, the other indexes held at ``index_prices_USD_t``
-    (scalars). Refused when no value >= 0 does it.
+    (scalars); the fixed price and the fee may be arrays. Refused when no
+    value >= 0 does it.
 
     >>> pay = {"lithium carbonate": 1.0, "iron": 0.0}
     >>> x = index_for_price("LFP", 9.0, "Li2CO3", {}, pay, conversion_fee_USD_kg=2.5)
@@ -301,17 +319,21 @@ def index_for_price(
         raise InputError("solve_for", solve_for,
                          detail=f"the price of {name} does not depend on {target!r} (payable 0 "
                          "or metal absent)")
-    fixed = float(check("fixed_price_USD_kg", fixed_price_USD_kg, NONNEGATIVE))
-    fee = float(check("conversion_fee_USD_kg", conversion_fee_USD_kg, NONNEGATIVE))
+    fixed = check("fixed_price_USD_kg", fixed_price_USD_kg, NONNEGATIVE)
+    fee = check("conversion_fee_USD_kg", conversion_fee_USD_kg, NONNEGATIVE)
+    broadcast_shape({"fixed_price_USD_kg": fixed, "conversion_fee_USD_kg": fee})
     others = {k: v for k, v in index_prices_USD_t.items() if index(k).name != target}
     needed = [n for n, c in coeff.items() if c != 0.0 and n != target]
     values = _index_values(others, needed)
     rest = fee + sum(coeff[n] * float(values[n]) / 1000.0 for n in needed)
     x = (fixed - rest) * 1000.0 / coeff[target]
-    if x < 0:
+    if np.any(x < 0):
+        k = int(np.argmax(np.ravel(x < 0)))
+        f, r = float(np.ravel(np.broadcast_to(fixed, x.shape))[k]), float(
+            np.ravel(np.broadcast_to(rest, x.shape))[k])
         raise InputError(
-            "fixed_price_USD_kg", fixed,
-            detail=f"{fixed:.6g} USD/kg is below the fee and the other metals ({rest:.6g} USD/kg); "
+            "fixed_price_USD_kg", f,
+            detail=f"{f:.6g} USD/kg is below the fee and the other metals ({r:.6g} USD/kg); "
             f"no {target} index >= 0 reproduces it",
         )
-    return x
+    return float(x) if x.ndim == 0 else x

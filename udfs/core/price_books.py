@@ -39,13 +39,18 @@ from . import catalogue
 from .errors import CellwrightError, DataError, InputError, NotFoundError
 from .metal_index import PAYABLE, index, index_coefficients
 from .names import lookup
-from .prices import PriceUnit, RateTable, exchange_rates, iso_date, price_unit
+from .prices import BASE_UNITS, PriceUnit, RateTable, exchange_rates, iso_date, price_unit
 
 __all__ = [
+    "BOOK_FIELDS",
     "COLUMNS",
+    "FIELDS",
+    "INDEX_PREFIX",
     "KINDS",
     "MaterialPrice",
     "PriceBook",
+    "book_field",
+    "book_info",
     "fixed_price",
     "price_book",
     "price_book_names",
@@ -178,6 +183,126 @@ class PriceBook:
             "material", material, f"material priced in the price book {self.name!r}",
             [m for m in self.materials() if m[:3].lower() == name[:3].lower()][:3],
         )
+
+
+#: What :func:`book_field` returns for an item of a book (``"index:NAME"`` or a material).
+FIELDS: Mapping[str, str] = {
+    "price": "USD per base unit (kg, m^2, L, piece; USD/t for an index); an indexed "
+             "material at the book's own index prices",
+    "unit": "the unit of price: USD/kg, USD/m^2, USD/L, USD/each or USD/t",
+    "base": "the fixed price, or the conversion fee of an indexed material (USD per base unit)",
+    "basis": "mass, area, volume or count",
+    "kind": "fixed, indexed or index",
+    "coefficient": "t of the index's product paid per t of material (needs index_name)",
+    "payable": "payable fraction of one index in an indexed material (needs index_name)",
+    "date": "the row's date (YYYY-MM-DD)",
+    "source": "the row's source",
+    "region": "the row's region",
+    "quoted": "the value as the book writes it",
+    "quoted_unit": "the unit and currency as the book writes them, e.g. CNY/t",
+}
+#: What :func:`book_info` returns about a whole book.
+BOOK_FIELDS = ("label", "name", "date", "earliest", "regions", "rows")
+INDEX_PREFIX = "index:"
+
+
+def book_info(book: PriceBook, field: str = "label") -> str | float:
+    """A fact of the whole book: its label (name and date), name, date (its
+    latest row), earliest date, regions, or number of rows.
+
+    >>> book_info(price_book("demo-2024-12"), "date")
+    '2024-12-31'
+    """
+    key = lookup(field, BOOK_FIELDS, "field of a price book", "field")
+    if key == "regions":
+        return ", ".join(book.regions)
+    if key == "rows":
+        return float(len(book.rows))
+    return str(getattr(book, key))
+
+
+def _row_of(book: PriceBook, item: str) -> tuple[_Row, str]:
+    """The book's row of ``item`` (``index:NAME`` or a material) and the kind."""
+    text = item.strip()
+    if text.lower().startswith(INDEX_PREFIX):
+        name = index(text[len(INDEX_PREFIX):], "item").name
+        for r in book.rows:
+            if r.kind == "index" and r.item == name:
+                return r, "index"
+        raise NotFoundError("item", item, f"index priced in the price book {book.name!r}",
+                            [f"{INDEX_PREFIX}{r.item}" for r in book.rows if r.kind == "index"][:4])
+    name = catalogue.material(text, "item").name
+    for r in book.rows:
+        if r.item == name and r.kind in ("material", "fee"):
+            return r, "fixed" if r.kind == "material" else "indexed"
+    raise NotFoundError(
+        "item", item, f"material priced in the price book {book.name!r} (an index is written "
+        f"{INDEX_PREFIX}NAME)",
+        [m for m in book.materials() if m[:3].lower() == name[:3].lower()][:3],
+    )
+
+
+def book_field(book: PriceBook, item: str, field: str = "price",
+               index_name: str | None = None) -> str | float:
+    """One fact of an item of ``book`` (see :data:`FIELDS`): ``item`` is a
+    material (name or alias) or ``"index:NAME"``; ``coefficient`` and
+    ``payable`` need ``index_name``.
+
+    >>> book = price_book("demo-2025-06")
+    >>> book_field(book, "index:nickel"), book_field(book, "index:cobalt", "quoted_unit")
+    (15500.0, 'USD/lb')
+    >>> round(book_field(book, "LFP", "coefficient", "Li2CO3"), 4), book_field(book, "LFP", "kind")
+    (0.2342, 'indexed')
+    >>> book_field(book, "PE separator", "unit")
+    'USD/m^2'
+    """
+    if not isinstance(item, str) or not item.strip():
+        raise InputError("item", item, f"a material name or {INDEX_PREFIX}NAME (text)")
+    key = lookup(field, tuple(FIELDS), "field of a price-book item", "field")
+    row, kind = _row_of(book, item)
+    if key in ("date", "source", "region"):
+        return str(getattr(row, key))
+    if key == "quoted":
+        return row.value
+    if key == "quoted_unit":
+        assert row.unit is not None
+        return row.unit.text.replace(" ", "") if "/" in row.unit.text else (
+            f"{row.unit.currency}/{row.unit.per}")
+    if key == "kind":
+        return kind
+    if kind == "index":
+        if key in ("price", "base"):
+            return book.index_prices_USD_t()[row.item]
+        if key in ("unit",):
+            return "USD/t"
+        if key == "basis":
+            return "mass"
+        raise InputError("field", field, detail=f"{field!r} applies to materials, not to an index")
+    p = book.material_price(row.item)
+    if key == "basis":
+        return p.basis
+    if key == "unit":
+        return f"USD/{BASE_UNITS[p.basis]}"
+    if key == "base":
+        return p.USD_per_base
+    if key == "price":
+        indexes = book.index_prices_USD_t()
+        return p.USD_per_base + sum(c * indexes[ix] / 1000.0 for ix, c in p.coefficients
+                                    if c != 0.0)
+    if not index_name:
+        raise InputError("index_name", index_name, detail=f"the field {key!r} needs the name "
+                         "of an index (e.g. nickel)")
+    ix = index(index_name, "index_name").name
+    if key == "coefficient":
+        return dict(p.coefficients).get(ix, 0.0)
+    if kind != "indexed":
+        raise InputError("item", item, detail=f"{row.item} has a fixed price in "
+                         f"{book.name!r}: it has no payables")
+    pays = book.payables(row.item)
+    if ix not in pays:
+        raise NotFoundError("index_name", index_name, f"index of {row.item}'s contract in "
+                            f"{book.name!r}", list(pays))
+    return pays[ix]
 
 
 def _clean(row: Mapping[str | None, str | None]) -> dict[str, str]:

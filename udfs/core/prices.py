@@ -150,7 +150,8 @@ def _per_unit(text: str, argument: str, whole: str) -> tuple[str, str]:
 @lru_cache(maxsize=512)
 def _parse(unit: str, currency: str | None, argument: str) -> PriceUnit:
     if len(unit) > _MAX_UNIT_LEN:
-        raise UnitError(argument, unit, detail=f"price unit longer than {_MAX_UNIT_LEN} characters")
+        raise UnitError(argument, None, detail=f"price unit of {len(unit):,} characters is too "
+                        f"long (at most {_MAX_UNIT_LEN})")
     head, slash, tail = unit.strip().partition("/")
     if slash:
         code = head.strip()
@@ -280,8 +281,8 @@ class RateTable:
         table = dict(self.rows)
         if code not in table:
             raise NotFoundError(
-                argument, currency, f"currency in the exchange-rate table {self.name!r}",
-                closest(str(currency), self.currencies()),
+                argument, currency, f"currency (the exchange-rate table {self.name} has "
+                f"{', '.join(self.currencies())})", closest(str(currency), self.currencies()),
             )
         rows = table[code]
         if as_of is None:

@@ -63,10 +63,13 @@ __all__ = [
     "Summary",
     "Tornado",
     "TornadoBar",
+    "draw",
+    "input_key",
     "make_range",
     "monte_carlo",
-    "draw",
+    "percentiles_of",
     "plan_chunks",
+    "quantile",
     "run_chunk",
     "serial_runner",
     "thread_runner",
@@ -121,18 +124,7 @@ class Range:
 
     def quantile(self, u: Any) -> Any:
         """Inverse distribution function (triangular and uniform), element-wise."""
-        a, c, b = self.low, self.likely, self.high
-        if self.distribution == "uniform":
-            return a + u * (b - a)
-        if self.distribution != "triangular":
-            raise InputError("distribution", self.distribution,
-                             detail="PERT has no closed-form quantile here; sample it")
-        if b == a:
-            return a + 0.0 * u
-        fc = (c - a) / (b - a)
-        left = a + np.sqrt(u * ((b - a) * (c - a)))
-        right = b - np.sqrt((1.0 - u) * ((b - a) * (b - c)))
-        return np.where(u < fc, left, right)
+        return quantile(self.low, self.likely, self.high, u, self.distribution)
 
     def percentile(self, p: float) -> float:
         """The closed-form ``p``-th percentile (triangular and uniform)."""
@@ -148,6 +140,33 @@ class Range:
             beta = 1.0 + _PERT_SHAPE * (b - c) / (b - a)
             return a + rng.beta(alpha, beta, n) * (b - a)
         return np.asarray(self.quantile(rng.random(n)), dtype=float)
+
+
+def quantile(low: Any, likely: Any, high: Any, u: Any, distribution: str = "triangular"
+             ) -> Any:
+    """The value below which a share ``u`` (0..1) of a triangular or uniform
+    range lies (closed form; everything broadcasts). Triangular: ``a + sqrt(u
+    (b-a)(c-a))`` left of the mode, ``b - sqrt((1-u)(b-a)(b-c))`` right of it.
+
+    >>> [round(float(x), 6) for x in quantile(0.0, np.array([1.0, 4.0]), 4.0, 0.5)]
+    [1.55051, 2.828427]
+    >>> float(quantile(2.0, 2.0, 2.0, 0.9))
+    2.0
+    """
+    if distribution == "uniform":
+        return low + u * (high - low)
+    if distribution != "triangular":
+        raise InputError("distribution", distribution,
+                         detail="PERT has no closed-form quantile here; sample it")
+    a, c, b = low, likely, high
+    if np.ndim(a) == 0 and np.ndim(b) == 0 and a == b:
+        return a + 0.0 * u
+    with np.errstate(divide="ignore", invalid="ignore"):
+        fc = (c - a) / (b - a)
+        left = a + np.sqrt(u * ((b - a) * (c - a)))
+        right = b - np.sqrt((1.0 - u) * ((b - a) * (b - c)))
+        out = np.where(u < fc, left, right)
+    return np.where(np.asarray(b) == np.asarray(a), a + 0.0 * u, out)
 
 
 def make_range(name: str, value: object) -> Range:
@@ -193,7 +212,10 @@ def _checked_ranges(model: Model, ranges: Mapping[str, object]) -> tuple[tuple[s
     return tuple(sorted(out))
 
 
-def _name_key(name: str) -> int:
+def input_key(name: str) -> int:
+    """The part of an input's seed that comes from its name (the first 8 bytes of
+    its SHA-256): the samples of input ``name`` in block ``b`` of a run with seed
+    ``s`` come from ``SeedSequence(s, spawn_key=(b, input_key(name)))``."""
     return int.from_bytes(hashlib.sha256(name.encode("utf-8")).digest()[:8], "little")
 
 
@@ -230,7 +252,7 @@ class _Draws:
                  width: int = SLICE):
         self.names = [name for name, _ in ranges]
         self.gens = [np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(
-            block, _name_key(name)))) for name in self.names]
+            block, input_key(name)))) for name in self.names]
         tri, uni, other = [], [], []
         for i, (_, r) in enumerate(ranges):
             if r.distribution == "triangular" and r.high > r.low:
@@ -410,6 +432,63 @@ def plan_chunks(n: int, chunk_size: int) -> list[tuple[int, int]]:
     return [(s, min(s + chunk_size, n)) for s in range(0, n, chunk_size)]
 
 
+_SELECT_BINS = 4096
+
+
+def _lerp(a: float, b: float, t: float) -> float:
+    """numpy's linear interpolation between neighbouring order statistics
+    (exact at both ends)."""
+    d = b - a
+    return b - d * (1.0 - t) if t >= 0.5 else a + d * t
+
+
+def percentiles_of(x: Array, percents: Sequence[float], lo: float | None = None,
+                   hi: float | None = None) -> list[float]:
+    """Percentiles of ``x`` with linear interpolation between order
+    statistics (numpy's default, the spreadsheet's PERCENTILE / PERCENTILE.INC).
+
+    The order statistics are found without sorting or partitioning all of
+    ``x``: each value is put in one of 4,096 bins of equal width between the
+    minimum and the maximum (a monotone map, so a bin holds a contiguous run of
+    the sorted values), the counts locate the bin of each rank, and only that
+    bin is partitioned. The values are exactly the order statistics, so the
+    result equals ``np.percentile`` (to its interpolation's rounding).
+
+    >>> x = np.random.default_rng(0).random(10_001)
+    >>> got = percentiles_of(x, [0, 10, 50, 99.9, 100])
+    >>> bool(np.allclose(got, np.percentile(x, [0, 10, 50, 99.9, 100]), rtol=0, atol=1e-15))
+    True
+    """
+    n = int(x.size)
+    lo = float(x.min()) if lo is None else lo
+    hi = float(x.max()) if hi is None else hi
+    if n < 4 * _SELECT_BINS or not (np.isfinite(lo) and np.isfinite(hi)) or lo == hi:
+        return [float(v) for v in np.percentile(x, list(percents))]
+    scale = _SELECT_BINS / (hi - lo)
+    f = np.subtract(x, lo)
+    f *= scale
+    bins = f.astype(np.intp)
+    del f
+    np.minimum(bins, _SELECT_BINS - 1, out=bins)
+    counts = np.bincount(bins, minlength=_SELECT_BINS)
+    ends = np.cumsum(counts)
+    sorted_bins: dict[int, Array] = {}
+
+    def order_statistic(rank: int) -> float:
+        j = int(np.searchsorted(ends, rank, side="right"))
+        if j not in sorted_bins:
+            sorted_bins[j] = np.sort(x[bins == j])
+        return float(sorted_bins[j][rank - (int(ends[j]) - int(counts[j]))])
+
+    out = []
+    for p in percents:
+        h = (n - 1) * (float(p) / 100.0)  # numpy's virtual index
+        r0 = int(np.floor(h))
+        r1 = min(r0 + 1, n - 1)
+        out.append(_lerp(order_statistic(r0), order_statistic(r1), h - r0))
+    return out
+
+
 @dataclass(frozen=True)
 class Summary:
     """Percentiles, mean, spread and histogram of one output."""
@@ -488,11 +567,11 @@ def monte_carlo(
             samples[k][t.start:t.stop] = res[k]
     summary = {}
     for k, x in samples.items():
-        q = np.percentile(x, pcts)
+        lo, hi = float(x.min()), float(x.max())
+        q = percentiles_of(x, pcts, lo, hi)
         counts, edges = np.histogram(x, bins=nbins)
-        summary[k] = Summary(k, dict(zip(pcts, (float(v) for v in q), strict=True)),
-                             float(x.mean()), float(x.std()), float(x.min()), float(x.max()),
-                             counts, edges)
+        summary[k] = Summary(k, dict(zip(pcts, q, strict=True)), float(x.mean()),
+                             float(x.std()), lo, hi, counts, edges)
     meta_fn = getattr(model, "meta", None)
     meta = dict(meta_fn()) if callable(meta_fn) else {}
     return MonteCarlo(count, int(seed), checked, summary, samples, meta)

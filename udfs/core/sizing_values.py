@@ -1,6 +1,7 @@
 """A cell-sizing scenario as flat input values (defined name -> value, as the
 cells of the workbook hold them) and back: the bridge between
-:class:`udfs.core.sizing.CellSpec` and :data:`udfs.core.sizing_table.CELL_SIZING`.
+:class:`udfs.core.sizing.CellSpec` (and :class:`udfs.core.pack.PackSpec`) and
+:data:`udfs.core.sizing_table.CELL_SIZING`.
 
 Every value read goes through the table's check (aliases resolve to the
 catalogue's names, numbers are checked against their domains), so a scenario
@@ -28,34 +29,48 @@ from . import catalogue
 from .errors import InputError, NotFoundError
 from .inputs import Input
 from .names import closest
+from .pack import PackSpec
 from .sizing import CellSpec, Price, price_basis
 from .sizing_table import CELL_SIZING, COMPONENTS, PRICE_UNITS, SIDES, Component
 from .validate import FreeText
 
 __all__ = [
-    "SPEC_INPUTS", "field_of", "order_from_values", "spec_from_values", "spec_values", "vary",
+    "PACK_INPUTS",
+    "SPEC_INPUTS",
+    "field_of",
+    "order_from_values",
+    "pack_from_values",
+    "pack_values",
+    "spec_from_values",
+    "spec_values",
+    "vary",
 ]
 
 Value = float | str | None
 _SPEC_FIELDS = frozenset(f.name for f in dataclasses.fields(CellSpec))
+_PACK_FIELDS = frozenset(f.name for f in dataclasses.fields(PackSpec))
 
 
 def _sets_spec(inp: Input) -> bool:
-    """Whether the input sets a CellSpec field (the order's inputs do not)."""
+    """Whether the input sets a CellSpec field (the order's and the pack's do not)."""
     return bool(inp.fields) and all(f in _SPEC_FIELDS for f in inp.fields)
 
 
-def _order_inputs() -> frozenset[str]:
-    """The inputs of the order (procurement), not of the cell: they set no
-    CellSpec field, or pick the meaning of one that does not."""
-    order = {inp.name for inp in CELL_SIZING if inp.fields and not _sets_spec(inp)}
-    return frozenset(order | {CELL_SIZING.get(n).chooser or n for n in order})
+def _other_inputs() -> frozenset[str]:
+    """The inputs of the order (procurement) and of the pack, not of the cell:
+    they set no CellSpec field, or pick the meaning of one that does not."""
+    other = {inp.name for inp in CELL_SIZING if inp.fields and not _sets_spec(inp)}
+    return frozenset(other | {CELL_SIZING.get(n).chooser or n for n in other})
 
 
-#: The inputs that describe one cell (a CellSpec): all but the title and the order.
+#: The inputs that describe one cell (a CellSpec): all but the title, the order and the pack.
 SPEC_INPUTS: tuple[str, ...] = tuple(
     inp.name for inp in CELL_SIZING
-    if inp.name not in _order_inputs() and not isinstance(inp.domain, FreeText)
+    if inp.name not in _other_inputs() and not isinstance(inp.domain, FreeText)
+)
+#: The inputs that describe the pack (a PackSpec).
+PACK_INPUTS: tuple[str, ...] = tuple(
+    inp.name for inp in CELL_SIZING if inp.field is not None and inp.field in _PACK_FIELDS
 )
 
 
@@ -73,8 +88,10 @@ def _scalar(field: str, value: Any) -> float | str | None:
     raise InputError(field, value, "a single number (the workbook holds one scenario)")
 
 
-def _binders(field: str, value: Any) -> tuple[str, str | None, float]:
-    """(main binder, second binder or None, share of the second)."""
+def _binders(field: str, value: Any) -> tuple[str | None, str | None, float]:
+    """(main binder or None for the recipe's, second binder or None, share of the second)."""
+    if value is None:
+        return None, None, 0.0
     if isinstance(value, str):
         return value, None, 0.0
     if isinstance(value, Mapping) and 1 <= len(value) <= 2:
@@ -107,7 +124,7 @@ def spec_values(
         raise InputError("spec", spec, "a CellSpec")
     out: dict[str, Value] = {}
     for inp in CELL_SIZING:
-        if inp.field is None or inp.field in ("cathode_binder", "anode_binder"):
+        if inp.field not in _SPEC_FIELDS or inp.field in ("cathode_binder", "anode_binder"):
             continue
         value = _scalar(inp.field, getattr(spec, inp.field))
         out[inp.name] = inp.check(value, argument=inp.field) if isinstance(value, str) else value
@@ -116,12 +133,13 @@ def spec_values(
             given = [c for c in inp.choices if getattr(spec, c.field) is not None]
             pick = given[0] if given else inp.choices[0]
             out[inp.chooser or ""] = pick.option
-            out[inp.name] = _scalar(pick.field, getattr(spec, pick.field))
+            value = _scalar(pick.field, getattr(spec, pick.field))
+            out[inp.name] = value if value is not None else inp.default  # envelope: unused
     for side in SIDES:
         field = f"{side}_binder"
         first, second, share = _binders(field, getattr(spec, field))
         names = CELL_SIZING.get(f"in_{side}_binder")
-        out[names.name] = names.check(first, argument=field)
+        out[names.name] = None if first is None else names.check(first, argument=field)
         out[f"in_{side}_binder2"] = None if second is None else names.check(second, field)
         out[f"in_{side}_binder2_share"] = share
     prices: dict[str, tuple[float, str]] = {}
@@ -134,6 +152,8 @@ def spec_values(
         hit = prices.get(material) if isinstance(material, str) else None
         out[c.price] = None if hit is None else hit[0]
         out[c.price_unit] = None if hit is None else hit[1]
+    for name in PACK_INPUTS:
+        out[name] = CELL_SIZING.get(name).default
     if order_cells is not None and order_MWh is not None:
         raise InputError("order_cells", order_cells, detail="give at most one of the two orders")
     size = CELL_SIZING.get("in_order_size")
@@ -173,14 +193,23 @@ def spec_from_values(values: Mapping[str, Any]) -> CellSpec:
     kw: dict[str, Any] = {}
     for inp in CELL_SIZING:
         if inp.field is not None:
-            kw[inp.field] = v[inp.name]
+            if inp.field in _SPEC_FIELDS:
+                kw[inp.field] = v[inp.name]
         elif inp.choices and _sets_spec(inp):
-            kw[_chosen(inp, v)] = v[inp.name]
+            field = _chosen(inp, v)
+            if field in ("target_capacity_Ah", "target_energy_Wh") and \
+                    v["in_sizing_mode"] == "envelope":
+                continue  # the envelope mode takes no target: the value is not used
+            kw[field] = v[inp.name]
     live: dict[str, str] = {}  # component key -> material, for the components present
     for side in SIDES:
         first, second = v[f"in_{side}_binder"], v[f"in_{side}_binder2"]
         share = float(v[f"in_{side}_binder2_share"])
         kw[f"{side}_binder"] = first
+        if first is None and (second is not None or share > 0):
+            raise InputError(f"in_{side}_binder", None,
+                             detail="name the main binder, or leave both binders blank for the "
+                             "recipe's")
         if share > 0:
             where = f"in_{side}_binder2"
             if second is None:
@@ -209,6 +238,39 @@ def spec_from_values(values: Mapping[str, Any]) -> CellSpec:
     if prices:
         kw["prices"] = prices
     return CellSpec(**kw)
+
+
+def pack_values(pack: PackSpec) -> dict[str, Value]:
+    """The input values (defined name -> value) that describe ``pack``.
+
+    >>> pack_values(PackSpec(pack_energy_kWh=80.0))["in_pack_energy"]
+    80.0
+    """
+    if not isinstance(pack, PackSpec):
+        raise InputError("pack", pack, "a PackSpec")
+    out: dict[str, Value] = {}
+    for name in PACK_INPUTS:
+        inp = CELL_SIZING.get(name)
+        assert inp.field is not None
+        value = _scalar(inp.field, getattr(pack, inp.field))
+        out[name] = inp.check(value, argument=inp.field)
+    return out
+
+
+def pack_from_values(values: Mapping[str, Any]) -> PackSpec:
+    """The :class:`PackSpec` that input values describe (missing ones take
+    their defaults; every value is checked by the table).
+
+    >>> pack_from_values({"in_pack_structure": "components"}).structure
+    'components'
+    """
+    v = _checked(values)
+    kw = {}
+    for name in PACK_INPUTS:
+        field = CELL_SIZING.get(name).field
+        assert field is not None
+        kw[field] = v[name]
+    return PackSpec(**kw)
 
 
 def order_from_values(values: Mapping[str, Any]) -> dict[str, float]:

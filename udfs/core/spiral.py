@@ -116,6 +116,7 @@ def wound_thickness(
         fits = wound_length(hi, c, p, w) >= length
         x = np.where(fits, 2.0 * np.sqrt((c / 2.0) ** 2 + length * pm / np.pi), np.nan)
         x = np.clip(x, lo, hi)
+        frozen = ~np.isfinite(x)
         for _ in range(_NEWTON_STEPS):
             f = wound_length(x, c, p, w) - length
             lo = np.where(f < 0, x, lo)
@@ -125,11 +126,14 @@ def wound_thickness(
             if w is not None:
                 d = d + (w + c - 2.0 * x) / pm
             step = x - f / d
-            bad = ~((step > lo) & (step < hi))
+            bad = ~((step >= lo) & (step <= hi))
             new = np.where(bad, (lo + hi) / 2.0, step)
-            done = np.abs(new - x) <= _TOL * np.maximum(np.abs(x), 1.0)
-            x = new
-            if bool(np.all(done | np.isnan(x))):
+            done = (np.abs(new - x) <= _TOL * np.maximum(np.abs(x), 1.0)) | (f == 0)
+            # an element that has converged stays put, so each element's steps (and its
+            # last digits) do not depend on the other elements of the array
+            x = np.where(frozen, x, new)
+            frozen = frozen | done
+            if bool(np.all(frozen)):
                 break
         ok = fits & (length >= 0) & np.isfinite(x)
     return np.where(ok, x, np.nan)

@@ -37,7 +37,9 @@ from formulas.ranges import Ranges
 from formulas.tokens.operand import XlError
 
 from udfs.sheet.error_values import SheetError
+from udfs.xlsx.file_errors import HostileFileError
 from udfs.xlsx.formula_text import TokenizeError
+from udfs.xlsx.guard import Limits
 from udfs.xlsx.refs import MAX_COL, MAX_ROW, col_letters
 
 from .deviations import reading
@@ -48,6 +50,7 @@ from .program import Program, ProgramError, program
 __all__ = ["Evaluator", "Result"]
 
 _EMPTY = sh.EMPTY
+MAX_KEPT = 2_000_000  # cells of ranges one run keeps for re-use (about 16 MiB of references)
 _CODE = re.compile(r"^(?:[\w.]+: )?(#[A-Z0-9/!?_]+)")
 _ALIAS = re.compile(r"^S([0-9]+)$")
 
@@ -94,19 +97,25 @@ class _Run:
         self.pending = set(todo)
         self.active: set[int] = set()
         self.ranges: dict[tuple[int, int, int, int, int], np.ndarray] = {}
+        self.kept = 0  # cells held in self.ranges
         self.sheet = 0  # sheet of the cell being computed (INDIRECT without a sheet)
         self.cell = (1, 1)
 
     # --------------------------------------------------------------- reading
     def block(self, sheet: int, r1: int, c1: int, r2: int, c2: int) -> np.ndarray:
+        """The cells of a range (kept for the rest of the run, up to MAX_KEPT cells)."""
         key = (sheet, r1, c1, r2, c2)
         got = self.ranges.get(key)
         if got is None:
             get = self.values.get
-            got = np.empty((r2 - r1 + 1, c2 - c1 + 1), dtype=object)
-            for i, r in enumerate(range(r1, r2 + 1)):
-                got[i, :] = [get((sheet, r, c), _EMPTY) for c in range(c1, c2 + 1)]
+            cols = range(c1, c2 + 1)
+            got = np.empty((r2 - r1 + 1) * (c2 - c1 + 1), dtype=object)
+            got[:] = [get((sheet, r, c), _EMPTY) for r in range(r1, r2 + 1) for c in cols]
+            got = got.reshape(r2 - r1 + 1, c2 - c1 + 1)
+            while self.ranges and self.kept + got.size > MAX_KEPT:
+                self.kept -= self.ranges.pop(next(iter(self.ranges))).size
             self.ranges[key] = got
+            self.kept += got.size
         return got
 
     def area(self, sheet: str, r1: int, c1: int, r2: int, c2: int) -> Ranges | None:
@@ -186,11 +195,61 @@ class Evaluator:
             found = self.programs[text] = program(text)
         return found
 
-    def check_programs(self) -> None:
-        """Parse every structure now: ProgramError names what the runner cannot run."""
+    def check_programs(self, name: str, limits: Limits) -> None:
+        """Bound the work, then parse every structure: HostileFileError past the limits on
+        distinct formula text and on cells read; ProgramError names what cannot run."""
+        texts = {u.structure.text for u in self.plan.units if u.problem is None}
+        size = sum(len(t) for t in texts)
+        if size > limits.formula_text:
+            raise HostileFileError(
+                name,
+                f"its {len(texts):,} distinct formula shapes hold {size:,} characters "
+                f"(limit {limits.formula_text:,}; parsing costs about 7 us a character)",
+            )
+        for text in texts:
+            self.program_of(text)
+        reads, worst = 0, None
         for u in self.plan.units:
             if u.problem is None:
-                self.program_of(u.structure.text)
+                n = self._reads(u)
+                reads += n
+                if worst is None or n > worst[0]:
+                    worst = (n, u)
+        if reads > limits.cell_reads and worst is not None:
+            where = self.plan.book.sheets[worst[1].sheet].name + "!" + worst[1].where
+            raise HostileFileError(
+                name,
+                f"its formulas read {reads:,} cells of ranges in all (limit "
+                f"{limits.cell_reads:,}); most of them from {len(worst[1].cells):,} cells "
+                f"filled from {where}, whose ranges move with the cell",
+            )
+
+    def _reads(self, u: Unit) -> int:
+        """Cells of ranges a unit reads: a range that moves with the cell is read once per
+        cell; one that stays put once per unit when the unit can be stacked."""
+        s = u.structure
+        prog = self.program_of(s.text)
+        first, last = u.cells[0], u.cells[-1]
+        moving: set[str] = set()
+        sizes: list[tuple[str, float]] = []
+        n = len(u.cells)
+        for slot in s.refs:
+            a, b = u.area(slot, first), u.area(slot, last)
+            if a is None or b is None or slot.kind != "ref":
+                continue
+            size_a = (a.r2 - a.r1 + 1) * (a.c2 - a.c1 + 1)
+            size_b = (b.r2 - b.r1 + 1) * (b.c2 - b.c1 + 1)
+            if a != b:
+                moving.add(slot.name)
+            if max(size_a, size_b) > 1:
+                # a run's areas change linearly from its first cell to its last
+                sizes.append((slot.name, (size_a + size_b) / 2))
+        stacked = not (s.references or s.dynamic) and all(
+            (a := u.area(r, first)) is not None and a.r1 == a.r2 and a.c1 == a.c2
+            for r in s.refs if r.name in moving
+        ) and prog.elementwise(moving, self.elementwise)
+        once = [size if stacked and name not in moving else size * n for name, size in sizes]
+        return int(sum(once))
 
     def explain(self, key: Key, values: dict[Key, Any]) -> str | None:
         """The message of an error cell whose value was computed elsewhere (the fallback
@@ -307,7 +366,10 @@ class Evaluator:
             with reading(run):
                 prog = self.program_of(live[0].structure.text)
                 cells = [(u, cell) for u in live for cell in u.cells]
-                if len(cells) == 1 or not self.stack or not self._stacked(prog, cells, run):
+                in_order = any(u.sequential for u in live)  # each cell reads the one before
+                if len(cells) == 1 or not self.stack or in_order or not self._stacked(
+                    prog, cells, run
+                ):
                     for u, cell in cells:
                         self._one(prog, u, cell, run)
         finally:

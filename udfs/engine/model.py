@@ -39,13 +39,13 @@ from udfs.sheet import registry
 from udfs.sheet.error_values import CellValue, SheetError
 from udfs.xlsx.file_errors import WorkbookError
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
-from udfs.xlsx.reader import WorkbookData, read_workbook
+from udfs.xlsx.reader import WorkbookData, check_fallback, read_workbook
 from udfs.xlsx.refs import CellRef, col_letters, parse_cell
 from udfs.xlsx.writer import Edit, write_live
 
 from .evaluator import Evaluator, Result, engine_value
 from .fallback import calculate_whole
-from .functions import ensure_registered, registered_names, to_cell
+from .functions import ensure_registered, to_cell
 from .plan import Key, Plan
 from .program import ProgramError
 
@@ -159,7 +159,8 @@ class WorkbookModel:
         self.package = self.book.package
         self.report = self.book.report
         self.sheets = self.book.sheets
-        self.plan = Plan(self.book, _known)
+        # formulas as written are about twice as long as their shapes (refs, numbers)
+        self.plan = Plan(self.book, _known, max_text=limits.formula_text)
         self.declined: list[str] = []
         self._evaluator: Evaluator | None = None
         if self.plan.circular and self.book.iterate:
@@ -171,10 +172,12 @@ class WorkbookModel:
         evaluator = Evaluator(self.plan, _ours_elementwise)
         if not self.declined:
             try:
-                evaluator.check_programs()
+                evaluator.check_programs(name, limits)
                 self._evaluator = evaluator
             except ProgramError as exc:
                 self.declined.append(str(exc))
+        if self.declined:  # the formulas package's own model: refused when too large for it
+            check_fallback(self.book, limits, "; ".join(self.declined))
         self._explainer = evaluator  # messages for error cells the fallback computed
         self._fallback: OrderedDict[tuple[tuple[Key, Any], ...], dict[Key, Any]] = OrderedDict()
         self._extended: OrderedDict[tuple[tuple[int, tuple[int, int]], ...], Evaluator] = (
@@ -285,10 +288,6 @@ class WorkbookModel:
     def _address(self, key: Key) -> str:
         return self.ref_of(key).address
 
-    def formula_refs(self) -> set[CellRef]:
-        """Every cell that holds a formula result (array-formula ranges included)."""
-        return {self.ref_of(k) for k in self.formula_keys}
-
     def is_formula(self, ref: CellRef) -> bool:
         return self.key_of(ref) in self._formula_set
 
@@ -301,15 +300,6 @@ class WorkbookModel:
         key = self.key_of(ref)
         fc = self.sheets[key[0]].formulas.get(key[1:])
         return fc.text_at(ref.row, ref.col) if fc is not None else None
-
-    def portable_refs(self) -> set[CellRef]:
-        """Formula cells every spreadsheet program can recompute: no CW_ or unknown call."""
-        ours = set(registered_names())
-        out: set[CellRef] = set()
-        for u in self.plan.units:
-            if u.problem is None and not (u.structure.functions & ours):
-                out.update(self.ref_of(k) for k in u.cell_keys())
-        return out
 
     def constants_read(self, limit: int = 10_000) -> list[Key]:
         """Constant cells that formulas read (at most ``limit`` + 1: more means more)."""
@@ -527,9 +517,3 @@ def clear_cache() -> None:
     """Forget every model (tests, benchmarks)."""
     _CACHE.clear()
 
-
-def coordinate_ref(sheet: str, row: int, col: int) -> CellRef:
-    return CellRef(sheet, row, col)
-
-
-__all__ += ["col_letters", "coordinate_ref"]

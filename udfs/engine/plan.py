@@ -4,9 +4,11 @@ A **unit** is a run of cells (down a column, or along a row) filled from one
 formula -- the same structure with references that move with the cell -- or a
 single cell, or an array formula. Units depend on the units whose cells their
 references cover (found through an interval index per column, never by
-expanding ranges); a unit that reads its own cells, or units in a cycle, are
-split into single cells and ordered cell by cell; what still forms a cycle is
-a circular reference. Each unit gets a depth (longest path from the inputs):
+expanding ranges). A run whose cells read only the cells before them in the
+run (a running total, ``=B4+A5`` filled down) stays one unit computed cell by
+cell in order (``sequential``); a unit that reads its own cells otherwise, or
+units in a cycle, are split into single cells and ordered cell by cell; what
+still forms a cycle is a circular reference. Each unit gets a depth (longest path from the inputs):
 units of one depth never depend on one another, so units of one depth sharing
 a structure can be evaluated in one stacked call.
 
@@ -27,6 +29,7 @@ from collections import defaultdict
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 
+from udfs.xlsx.file_errors import HostileFileError
 from udfs.xlsx.formula_text import Area
 from udfs.xlsx.reader import FormulaCell, WorkbookData
 from udfs.xlsx.refs import col_letters
@@ -39,7 +42,7 @@ Key = tuple[int, int, int]  # (sheet index, row, column)
 Rect = tuple[int, int, int, int, int]  # (sheet, r1, c1, r2, c2)
 
 
-@dataclass(eq=False)
+@dataclass(eq=False, slots=True)
 class Unit:
     """Cells evaluated together: one structure; ``cells`` as (row, col) in order."""
 
@@ -53,6 +56,7 @@ class Unit:
     index: int = 0
     depth: int = 0
     problem: str | None = None  # not evaluated: why
+    sequential: bool = False  # reads earlier cells of its own: computed cell by cell, in order
 
     def cell_keys(self) -> Iterator[Key]:
         """Every cell the unit fills (an array formula's whole range)."""
@@ -94,6 +98,30 @@ class Unit:
     def where(self) -> str:
         r, c = self.cells[0]
         return f"{col_letters(c)}{r}"
+
+    def reads_only_earlier_cells(self) -> bool:
+        """True when each cell reads, of the unit's own cells, only those before it
+        (a run down a column or along a row; never an array formula)."""
+        if self.span is not None or len(self.cells) < 2:
+            return False
+        (r0, c0), (rn, cn) = self.cells[0], self.cells[-1]
+        down = c0 == cn
+        for slot in self.structure.refs:
+            if slot.kind != "ref" or slot.sheet != self.sheet:
+                continue
+            for r, c in self.cells:
+                a = self.area(slot, (r, c))
+                if a is None:
+                    continue
+                if down:
+                    hit = a.c1 <= c0 <= a.c2 and max(a.r1, r0) <= min(a.r2, rn)
+                    if hit and min(a.r2, rn) >= r:
+                        return False
+                else:
+                    hit = a.r1 <= r0 <= a.r2 and max(a.c1, c0) <= min(a.c2, cn)
+                    if hit and min(a.c2, cn) >= c:
+                        return False
+        return True
 
 
 class CellIndex:
@@ -173,8 +201,13 @@ class Plan:
         book: WorkbookData,
         known: Callable[[str], bool],
         extra: dict[int, tuple[int, int]] | None = None,
+        max_text: int | None = None,
     ):
+        """``max_text``: characters of distinct formulas (as written) past which the
+        workbook is refused before any of them is read further (HostileFileError)."""
         self.book = book
+        self.max_text = max_text
+        self.text_size = 0
         self.context = Context(book.sheets, book.defined_names, book.tables, known, extra)
         self.units: list[Unit] = []
         self.owner: dict[Key, int] = {}
@@ -198,6 +231,8 @@ class Plan:
                 if key is None:
                     key = relative_text(fc.text, *fc.anchor)
                     texts[(fc.text, fc.anchor)] = key
+                    if key not in groups:
+                        self._count_text(len(fc.text))
                 groups[key].append((r, c))
                 if key not in firsts:
                     firsts[key] = FormulaCell(fc.text_at(r, c), (r, c))
@@ -206,6 +241,15 @@ class Plan:
                 s = self._structure(sheet.index, first, structures)
                 for run in _runs(cells):
                     self._add(Unit(sheet.index, run, s, first.anchor, problem=s.problem))
+
+    def _count_text(self, n: int) -> None:
+        self.text_size += n
+        if self.max_text is not None and self.text_size > self.max_text:
+            raise HostileFileError(
+                self.book.name,
+                f"its distinct formulas hold more than {self.max_text:,} characters "
+                "(parsing costs about 7 us a character)",
+            )
 
     def _structure(
         self,
@@ -253,6 +297,8 @@ class Plan:
                 rect = u.reach(slot)
                 if rect is not None:
                     u.deps.update(index.find(rect))
+            if u.sequential:
+                u.deps.discard(u.index)
         for u in self.units:
             u.readers.clear()
         for u in self.units:
@@ -266,6 +312,20 @@ class Plan:
         stuck = self._depths()
         if not stuck:
             return
+        in_order = [
+            comp[0]
+            for comp in _cycles(self.units, stuck)
+            if len(comp) == 1 and self.units[comp[0]].reads_only_earlier_cells()
+        ]
+        for i in in_order:
+            u = self.units[i]
+            u.sequential = True
+            u.deps.discard(i)
+            u.readers.discard(i)
+        if in_order:
+            stuck = self._depths()
+            if not stuck:
+                return
         multi = {
             i for comp in _cycles(self.units, stuck) for i in comp if len(self.units[i].cells) > 1
         }

@@ -75,36 +75,52 @@ class Program:
         inputs: dict[str, int] = {}
         steps: list[tuple[int, Callable[..., Any], tuple[int, ...], str]] = []
 
-        def slot(node: Any, depth: int = 0) -> int:
-            if node in slots:
-                return slots[node]
-            if depth > 2000:
-                raise ProgramError("formula nested too deeply")
-            makers = list(pred.get(node, ()))
+        def leaf(node: Any) -> int:
+            index = len(template)
             if node in defaults:
-                index = len(template)
                 template.append(defaults[node]["value"])
-            elif not makers:
-                index = len(template)
+            else:
                 template.append(sh.EMPTY)
                 inputs[str(node)] = index
-            else:
-                if len(makers) != 1:
-                    raise ProgramError(f"{node!r} is computed {len(makers)} ways")
-                attrs = dsp.nodes[makers[0]]
-                extra = set(attrs) - _KNOWN_ATTRS
-                if extra or len(attrs.get("outputs", ())) != 1:
-                    raise ProgramError(f"step {makers[0]!r} has {sorted(extra)}")
-                # a call with no arguments waits on the dispatcher's START node only
-                ins = tuple(slot(i, depth + 1) for i in attrs.get("inputs") or () if i != sh.START)
-                index = len(template)
-                template.append(None)
-                name = _SUFFIX.sub("", str(makers[0]))
-                steps.append((index, attrs["function"], ins, name))
-            slots[node] = index
             return index
 
-        self.root = slot(root)
+        def maker(node: Any) -> tuple[Any, dict[str, Any]] | None:
+            makers = list(pred.get(node, ()))
+            if node in defaults or not makers:
+                return None
+            if len(makers) != 1:
+                raise ProgramError(f"{node!r} is computed {len(makers)} ways")
+            attrs = dsp.nodes[makers[0]]
+            extra = set(attrs) - _KNOWN_ATTRS
+            if extra or len(attrs.get("outputs", ())) != 1:
+                raise ProgramError(f"step {makers[0]!r} has {sorted(extra)}")
+            return makers[0], attrs
+
+        # depth-first, post-order, with an explicit stack: a formula of thousands of
+        # operators is as deep as it is long, deeper than Python's recursion allows
+        stack: list[tuple[Any, bool]] = [(root, False)]
+        while stack:
+            node, ready = stack.pop()
+            if node in slots:
+                continue
+            made = maker(node)
+            if made is None:
+                slots[node] = leaf(node)
+                continue
+            fid, attrs = made
+            # a call with no arguments waits on the dispatcher's START node only
+            args = [i for i in attrs.get("inputs") or () if i != sh.START]
+            if not ready:
+                stack.append((node, True))
+                stack.extend((i, False) for i in reversed(args) if i not in slots)
+                continue
+            index = len(template)
+            template.append(None)
+            steps.append((index, attrs["function"], tuple(slots[i] for i in args),
+                          _SUFFIX.sub("", str(fid))))
+            slots[node] = index
+
+        self.root = slots[root]
         self._template = template
         self.inputs = tuple(sorted(inputs))
         self._input_slots = [inputs[n] for n in self.inputs]

@@ -41,7 +41,7 @@ _MAX_NAME_DEPTH = 16
 _NAME_CONSTANT = {"number", "string", "error"}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class RefSlot:
     """A reference placeholder: ``sheet`` index and ``area`` as written for ``(row, col)``.
 
@@ -58,7 +58,7 @@ class RefSlot:
         return self.area.shifted(dr, dc) if (dr or dc) else self.area
 
 
-@dataclass
+@dataclass(slots=True)
 class Structure:
     """The parse key ``text`` of a formula and what its placeholders stand for."""
 

@@ -71,6 +71,7 @@ class Section(enum.Enum):
     CAPACITY = "Materials and capacity"
     SIZING = "Electrode and cell sizing"
     PROCUREMENT = "Procurement"
+    COST = "Prices, cost and risk"
 
     @property
     def title(self) -> str:

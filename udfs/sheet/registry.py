@@ -13,6 +13,7 @@ True
 from __future__ import annotations
 
 from . import (  # noqa: F401 - imported for their declarations
+    costing,
     electrodes,
     faraday_law,
     formula_units,
@@ -70,6 +71,25 @@ CATALOGUE_ORDER: tuple[str, ...] = (
     "CW_ELECTRODE_AREA",
     "CW_NP_RATIO",
     "CW_CELL_DESIGN",
+    "CW_CELL_CHECKS",
+    "CW_FORMAT_PRESET",
+    "CW_WOUND_LENGTH",
+    "CW_WOUND_THICKNESS",
+    "CW_PACK_SERIES",
+    "CW_PACK_DESIGN",
+    "CW_PACK_HIGH_VOLTAGE",
+    "CW_CELL_BOM",
     "CW_LCE",
     "CW_METAL_CONTENT",
+    "CW_PRECURSORS",
+    "CW_PRICE",
+    "CW_FX",
+    "CW_PRICE_BOOKS",
+    "CW_PRICE_BOOK",
+    "CW_PRICE_BOOK_INFO",
+    "CW_INDEX_COEFFICIENT",
+    "CW_INDEXED_PRICE",
+    "CW_INDEX_FOR_PRICE",
+    "CW_RANGE_PERCENTILE",
+    "CW_RANGE_SAMPLE",
 )

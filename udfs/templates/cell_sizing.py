@@ -1,19 +1,22 @@
-"""The cell-sizing workbook: Inputs, Electrodes, Bill of materials,
-Procurement, What-if and Notes (plus a hidden Lists sheet).
+"""The cell-sizing workbook: Inputs, Electrodes, Format, Bill of materials,
+Pack, Procurement, What-if and Notes (plus a hidden Lists sheet).
 
-It is the spreadsheet route to the numbers of :mod:`udfs.core.sizing` and
-:mod:`udfs.core.procurement`: the same equations (``docs/sizing-model.md``) in
-native formulas, with catalogue values read through ``CW_`` functions. The
-Inputs sheet is written from the input table
+It is the spreadsheet route to the numbers of :mod:`udfs.core.sizing`,
+:mod:`udfs.core.pack` and :mod:`udfs.core.procurement`: the same equations
+(``docs/sizing-model.md``) in native formulas, with catalogue values read
+through ``CW_`` functions. The Inputs sheet is written from the input table
 (:data:`udfs.core.sizing_table.CELL_SIZING`): every input's cell, defined name,
 unit, hint, data validation and check cell come from its one declaration.
 Each material input has a cell beside it with the catalogue's own name
-(``CW_MATERIAL_NAME``, defined name ``mat_...``); every look-up reads that cell,
-so an alias such as LFP works everywhere.
+(``CW_MATERIAL_NAME``, defined name ``mat_...``), and each input the value in
+use (``use_...``); every look-up reads those cells, so an alias such as LFP
+works everywhere. The design rules are cells named ``err_...`` and
+``warn_...`` (:mod:`udfs.templates.sizing_checks`).
 
 >>> wb = build_cell_sizing()
 >>> wb.sheetnames
-['Inputs', 'Electrodes', 'Bill of materials', 'Procurement', 'What-if', 'Notes', 'Lists']
+['Inputs', 'Electrodes', 'Format', 'Bill of materials', 'Pack', 'Procurement', 'What-if', \
+'Notes', 'Lists']
 >>> wb.active.title
 'Inputs'
 """
@@ -21,205 +24,96 @@ so an alias such as LFP works everywhere.
 from __future__ import annotations
 
 from openpyxl import Workbook
-from openpyxl.worksheet.worksheet import Worksheet
 
 from ..core.errors import InputError
-from ..core.inputs import Input
 from ..core.sizing import CellSpec
-from ..core.sizing_table import CELL_SIZING, COMPONENTS
 from ..core.sizing_values import spec_values
-from ..core.validate import Names
-from .input_rules import check_formula, excel_test, must
-from .layout import Columns, Ref, SheetWriter, add_name, finish_sheet, style, validate
-from .notes import CAUTION, legend, write_notes
+from .layout import finish_sheet
+from .notes import write_notes
+from .sizing_checks import write_checks
+from .sizing_format import build_format
+from .sizing_inputs import build_inputs
 from .sizing_lists import write_lists
 from .sizing_order import build_procurement, build_whatif
-from .sizing_sheets import build_bom, build_electrodes, resolved_name
+from .sizing_pack import build_pack
+from .sizing_sheets import build_bom, build_electrodes
 from .workbook_inputs import set_inputs
 
 __all__ = ["build_cell_sizing", "build_demo", "fill_demo", "fill_spec"]
 
-CHECK = "F"  # the column of the check cells on the Inputs sheet
-_SCENARIO = "Scenario"
-_PRICES = CELL_SIZING.get(COMPONENTS[0].price).section
-
-
-def _resolve_formula(inp: Input) -> str:
-    assert isinstance(inp.domain, Names)
-    call = f'CW_MATERIAL_NAME({inp.name},"{inp.domain.roles[0]}")'
-    return f'=IF(ISBLANK({inp.name}),"",{call})' if inp.optional else f"={call}"
-
-
-def _input_row(w: SheetWriter, inp: Input, checks: list[Ref]) -> None:
-    """One input, the catalogue name it resolves to (material inputs) and its check."""
-    ref = w.input(inp)
-    resolved = None
-    if isinstance(inp.domain, Names):
-        cell = w.ws[ref.at("D").plain]
-        style(cell, "lookup").value = _resolve_formula(inp)
-        resolved = resolved_name(inp.name)
-        add_name(w.wb, resolved.name, w.ws, ref.at("D").local)
-    check = ref.at(CHECK)
-    style(w.ws[check.plain], "calc").value = check_formula(
-        inp, inp.name, None if resolved is None else str(resolved)
-    )
-    checks.append(check)
-
-
-def _price_rows(w: SheetWriter, checks: list[Ref]) -> None:
-    """Price and unit per component (two inputs of the table on one row); the
-    label and the hint show the component's material and its demo price."""
-    ws = w.ws
-    w.band(["Component and material", "Your price", "Unit", "Blank price: demo price list",
-            "Check"])
-    for comp in COMPONENTS:
-        row = w.row
-        material = resolved_name(comp.material)
-        style(ws[f"B{row}"], "text").value = (
-            f'="{comp.label}: "&IF({material}="","(none)",{material})'
-        )
-        price, unit = CELL_SIZING.get(comp.price), CELL_SIZING.get(comp.price_unit)
-        for inp, col in ((price, "C"), (unit, "D")):
-            style(ws[f"{col}{row}"], "input", inp.fmt)
-            validate(ws, inp, f"{col}{row}")
-            add_name(w.wb, inp.name, ws, f"${col}${row}")
-        demo = f"MATCH({material},list_material,0)"
-        style(ws[f"E{row}"], "hint").value = (
-            f'=IF({material}="","",IFERROR("demo "&TEXT(INDEX(list_demo_price,{demo}),'
-            f'"0.00")&" "&INDEX(list_demo_unit,{demo})&" (invented)","no demo price: give one"))'
-        )
-        style(ws[f"{CHECK}{row}"], "calc").value = (
-            f'=IF(NOT({excel_test(price, price.name)}),"price {must(price)}",'
-            f'IF(NOT({excel_test(unit, unit.name)}),"unit {must(unit)}","ok"))'
-        )
-        checks.append(Ref(ws.title, CHECK, row))
-        w.row += 1
-
-
-def _binder_check(side: str) -> str:
-    share, second = f"in_{side}_binder2_share", f"in_{side}_binder2"
-    first2, second2 = resolved_name(f"in_{side}_binder"), resolved_name(second)
-    return (
-        f'=IF({share}=0,"ok",IF(ISBLANK({second}),"name the second binder or set its share '
-        f'to 0",IF({second2}={first2},"the second binder repeats the first","ok")))'
-    )
-
-
-def _checks(w: SheetWriter, input_checks: list[Ref]) -> list[Ref]:
-    """The Checks block: every input in its range, then the rules that join inputs."""
-    in_range = ",".join(f'{c.local}="ok"' for c in input_checks)
-    rows = (
-        ("Inputs within their allowed ranges",
-         f'=IF(IFERROR(AND({in_range}),FALSE),"ok",'
-         '"an input is out of range: see the Check column")'),
-        ("Cathode coating fractions",
-         '=IF(in_cathode_active+in_cathode_binder_fraction<=1+1E-12,"ok",'
-         '"active + binder fractions exceed 100 %")'),
-        ("Anode coating fractions",
-         '=IF(in_anode_active+in_anode_binder_fraction<=1+1E-12,"ok",'
-         '"active + binder fractions exceed 100 %")'),
-        ("Cathode binders", _binder_check("cathode")),
-        ("Anode binders", _binder_check("anode")),
-        ("Order",
-         '=IF(in_order_basis="cells",IF(in_order_size=ROUND(in_order_size,0),"ok",'
-         '"give a whole number of cells"),"ok")'),
-        ("Nominal voltage",
-         '=IF(ISNUMBER(out_voltage_V),"ok","cannot be found: the materials use different '
-         'voltage references or give no positive difference; type a nominal voltage")'),
-        ("Prices",
-         '=IF(ISNUMBER(out_cost_per_cell_USD),"ok","a price is missing: a price typed without '
-         'its unit, or a material without a demo price")'),
-        ("Results",
-         '=IF(AND(ISNUMBER(out_cost_per_kWh_USD),ISNUMBER(out_Wh_kg),ISNUMBER(out_order_cells)),'
-         '"ok","a result is an error value: check the inputs above")'),
-    )
-    return [w.value(label, formula, "", "") for label, formula in rows]
-
-
-def _build_inputs(wb: Workbook) -> Worksheet:
-    ws = wb.active
-    ws.title = "Inputs"
-    w = SheetWriter(wb, ws, Columns(label="B", value="C", unit="D", note="E"),
-                    {"A": 2.5, "B": 44.0, "C": 22.0, "D": 20.0, "E": 62.0, CHECK: 30.0})
-    w.title(
-        "Cell sizing: inputs",
-        "A stacked-electrode cell from its materials and design numbers. Work down this sheet, "
-        "then read Electrodes, Bill of materials, Procurement and What-if.",
-    )
-    w.caution(CAUTION, span=5, height=32.0)
-    legend(w)
-    w.skip()
-    w.input(CELL_SIZING.get("in_scenario"))
-    ws.merge_cells(f"C{w.row - 1}:E{w.row - 1}")
-    summary_row = w.row
-    w.row += 1
-    input_checks: list[Ref] = []
-    for section, inputs in CELL_SIZING.sections():
-        if section == _SCENARIO:
-            continue
-        w.section(section)
-        style(ws[f"{CHECK}{w.row - 1}"], "unit").value = "Check"
-        if section == _PRICES:
-            _price_rows(w, input_checks)
-            continue
-        for inp in inputs:
-            _input_row(w, inp, input_checks)
-    w.section("Checks")
-    checks = _checks(w, input_checks)
-    all_ok = ",".join(f'{c.local}="ok"' for c in checks)
-    ws[f"B{summary_row}"] = "Input checks"
-    style(ws[f"B{summary_row}"], "text")
-    style(ws[f"C{summary_row}"], "result").value = (
-        f'=IF(IFERROR(AND({all_ok}),FALSE),"all checks pass",'
-        '"a check fails: see Checks at the bottom")'
-    )
-    add_name(wb, "out_checks", ws, f"$C${summary_row}")
-    finish_sheet(ws, first_cell="C6", freeze="A6")
-    ws.print_title_rows = "1:2"
-    return ws
+def _source(args: str) -> str:
+    """A live CW_SOURCE look-up; a value the catalogue lacks is the user's input."""
+    return f'=IFERROR(CW_SOURCE({args}),"not in the catalogue: your input")'
 
 
 def _notes(wb: Workbook) -> None:
     method = [
-        "Route: one stacked cell (n double-sided cathode sheets, n + 1 anode sheets, 2n "
-        "separator layers). The cathode areal capacity = loading x active fraction x mAh/g / "
-        "1000; the usable share is 1 - first-cycle loss; the anode carries N/P times the cathode "
-        "areal capacity.",
-        "n = the target Ah over the usable capacity of one double-sided sheet, rounded up. "
-        "Capacity = coated cathode area x usable areal capacity; energy = capacity x nominal "
-        "voltage.",
+        "Capacity basis: each electrode's first-charge specific capacity and first-cycle "
+        "efficiency (catalogue, or yours). The cathode's first-charge areal capacity = loading x "
+        "active fraction x mAh/g / 1000; the anode carries N/P (first-charge basis) times it. "
+        "The reversible capacity per unit area is the lower of the cathode's own limit "
+        "(first charge x its efficiency) and the lithium left after the anode's first-cycle "
+        "loss, min(cathode, anode) - anode x (1 - its efficiency): below N/P 1 the anode "
+        "limits it. No loss is taken twice.",
+        "Nominal voltage: cathode minus anode average discharge voltage (same reference); the "
+        "cell's limits: the couple's window, cathode min - anode max to cathode max - anode min.",
+        "Formats (Format sheet): stacked pouch, wound cylinder (18, 21, 46 mm classes), "
+        "prismatic can with flat wound rolls or stacks. Target mode: the target and the free "
+        "dimensions give the last one; envelope mode: the outer size gives the capacity. Blank "
+        "dimensions take the class preset (CW_FORMAT_PRESET); a wound roll's strip length is the "
+        "Archimedean spiral from the core to the can.",
         "Masses: coatings = loading x fraction x coated area; foils, separator = area x "
         "thickness x density (x (1 - porosity) for the separator); electrolyte = fill x pore "
-        "volume x density; tabs and housing as given.",
+        "volume x density; tabs and housing from their size and material (or as given).",
         "Costs per good cell: electrode materials (coatings and foils) / (1 - scrap), all / "
-        "yield. Procurement: kg to buy = cells x g per cell / 1000 with the same factors; "
-        "metals = kg x element mass fraction; lithium also as LCE.",
+        "yield. Prices: CW_PRICE parses each unit and currency and turns it into USD/kg. "
+        "Procurement: kg to buy = cells x g per cell / 1000 with the same factors; metals = kg x "
+        "element mass fraction; lithium also as LCE.",
+        "Pack: cells in series = the most whose upper limits stay within the pack's highest "
+        "voltage (their lower limits must stay above its lowest); parallel strings from the "
+        "energy wanted; structure by cell-to-pack fractions or component lines.",
+        "Checks: errors (the model cannot compute) and warnings (design rules with their "
+        "bounds and sources), one named cell each (err_..., warn_...); 'all checks pass' only "
+        "when none fires.",
         "Names: each material input accepts the catalogue's names and aliases (LFP, NCM811); "
         "the cell beside it shows the catalogue's own name (CW_MATERIAL_NAME), and every "
         "look-up reads that cell.",
-        "The same equations run in Python (udfs.core.sizing and udfs.core.procurement, see "
-        "docs/sizing-model.md); a test proves the two routes agree to 1 part in 1e9.",
-        "What-if: each grid is one array formula of CW_CELL_DESIGN, which runs the Python "
-        "sizing model on the inputs listed below the grids with the loading and the N/P "
-        "varied; a check row compares it with the Bill of materials at the current inputs.",
+        "The same equations run in Python (udfs.core.sizing, udfs.core.pack, "
+        "udfs.core.procurement; docs/sizing-model.md); a test proves the two routes agree to 1 "
+        "part in 1e9 for every format and mode.",
+        "Without the add-in: every cell shows the value cached when the file was computed; "
+        "native formulas (checks, geometry, masses, costs) recalculate, but everything that "
+        "depends on a CW_ look-up (catalogue values, prices, the what-if grids) keeps its cached "
+        "value or shows #NAME? after a change. With the add-in (xlwings, UDF Modules = udfs) the "
+        "whole workbook recalculates live; see docs/templates.md.",
     ]
     live = [
-        ("Cathode practical capacity", '=CW_SOURCE(mat_cathode,"practical_capacity")'),
-        ("Cathode average voltage", '=CW_SOURCE(mat_cathode,"average_voltage")'),
-        ("Cathode density", '=CW_SOURCE(mat_cathode,"density")'),
-        ("Anode practical capacity", '=CW_SOURCE(mat_anode,"practical_capacity")'),
-        ("Anode density", '=CW_SOURCE(mat_anode,"density")'),
-        ("Separator thickness", '=CW_SOURCE(mat_separator,"thickness")'),
-        ("Electrolyte density", '=CW_SOURCE(mat_electrolyte,"density")'),
-        ("Cathode foil density", '=CW_SOURCE(mat_cathode_foil,"density")'),
+        ("Cathode first-charge capacity",
+         _source('mat_cathode,"first_charge_capacity"')),
+        ("Cathode first-cycle efficiency",
+         _source('mat_cathode,"first_cycle_efficiency"')),
+        ("Cathode average voltage", _source('mat_cathode,"average_voltage"')),
+        ("Cathode density", _source('mat_cathode,"density"')),
+        ("Cathode recipe (porosity)", _source('mat_cathode,"electrode_porosity"')),
+        ("Anode first-charge capacity", _source('mat_anode,"first_charge_capacity"')),
+        ("Anode first-cycle efficiency", _source('mat_anode,"first_cycle_efficiency"')),
+        ("Anode density", _source('mat_anode,"density"')),
+        ("Separator thickness", _source('mat_separator,"thickness"')),
+        ("Electrolyte density", _source('use_electrolyte,"density"')),
+        ("Housing density", _source('use_housing,"density"')),
     ]
     cautions = [
-        "Catalogue capacities are typical practical values at an unstated rate and "
-        "temperature; check them against your supplier's data sheets.",
-        "Prices in the demo list are invented. Replace them with quotations before any "
-        "decision. Costs are materials only: no energy, labour, equipment or overheads.",
-        "The model has no jelly rolls, no electrolyte in the free volume of the housing, no "
-        "tapes, welds or insulation, and no ageing.",
+        "Catalogue capacities are typical values at an unstated rate and temperature; check "
+        "them against your supplier's data sheets.",
+        "Prices in the demo list and the exchange rates are invented. Replace them with "
+        "quotations before any decision. Costs are materials only: no energy, labour, equipment "
+        "or overheads.",
+        "Format presets are generic classes (common practice or from memory), never a "
+        "product's drawing. The model has no insulation films, tapes, welds, free electrolyte "
+        "outside the pores, and no ageing.",
+        "Packs above 60 V DC can kill: the Pack sheet shows the caution when it applies; such "
+        "packs are designed, built and serviced under the standards for hazardous-voltage "
+        "batteries, by qualified engineers.",
     ]
     write_notes(wb, "Notes: method, sources and cautions", method, cautions, live)
 
@@ -227,13 +121,20 @@ def _notes(wb: Workbook) -> None:
 def build_cell_sizing() -> Workbook:
     """The cell-sizing template as a new openpyxl workbook."""
     wb = Workbook()
-    _build_inputs(wb)
-    cells = build_electrodes(wb)
-    bom = build_bom(wb, cells)
+    inputs = build_inputs(wb)
+    electrodes = build_electrodes(wb)
+    cell = build_format(wb, electrodes)
+    bom = build_bom(wb, electrodes, cell)
+    pack_fit = build_pack(wb, electrodes, cell)
     build_procurement(wb, bom)
     build_whatif(wb)
     _notes(wb)
     write_lists(wb)
+    write_checks(inputs, electrodes, bom.problems, cell.fits, pack_fit)
+    for row, comp in inputs.price_rows:  # the material in use beside each price
+        inputs.ws[f"G{row}"].value = f"={bom.cell(comp, 'C')}"
+    finish_sheet(inputs.ws, first_cell="C6", freeze="A6")
+    inputs.ws.print_title_rows = "1:2"
     wb.active = 0
     for ws in wb.worksheets:
         ws.sheet_view.tabSelected = ws.title == "Inputs"

@@ -8,9 +8,9 @@ about an input's limits is written twice.
 >>> from udfs.core.sizing_table import CELL_SIZING
 >>> dv = data_validation(CELL_SIZING.get("in_np_ratio"), "C9")
 >>> dv.type, dv.operator, dv.formula1, dv.error
-('decimal', 'greaterThan', '0', 'N/P ratio (in_np_ratio): > 0.')
->>> excel_test(CELL_SIZING.get("in_cathode_active"), "C9")
-'AND(ISNUMBER(C9),C9>0,C9<=1)'
+('decimal', 'greaterThan', '0', 'N/P ratio, first-charge basis (in_np_ratio): > 0.')
+>>> excel_test(CELL_SIZING.get("in_yield"), "C9")
+'IF(ISNUMBER(C9),AND(C9>0,C9<=1),FALSE)'
 >>> unit_formula(CELL_SIZING.get("in_target"))
 '=IF(in_target_basis="energy","Wh","Ah")'
 """
@@ -41,7 +41,9 @@ def list_name(names: Names) -> str:
 
 
 def _number_test(domain: Domain, ref: str) -> str:
-    terms = [f"ISNUMBER({ref})"]
+    """A number within the domain; text (or an error-free blank) is FALSE, never an
+    error value (the bounds are tested only once the cell holds a number)."""
+    terms = []
     if domain.lower is not None:
         terms.append(f"{ref}{'>' if domain.lower_open else '>='}{_num(domain.lower)}")
     if domain.upper is not None:
@@ -50,7 +52,10 @@ def _number_test(domain: Domain, ref: str) -> str:
         terms.append(f"{ref}<>0")
     if domain.integer:
         terms.append(f"{ref}=ROUND({ref},0)")
-    return terms[0] if len(terms) == 1 else f"AND({','.join(terms)})"
+    if not terms:
+        return f"ISNUMBER({ref})"
+    test = terms[0] if len(terms) == 1 else f"AND({','.join(terms)})"
+    return f"IF(ISNUMBER({ref}),{test},FALSE)"
 
 
 def excel_test(inp: Input, ref: str, resolved: str | None = None) -> str:
@@ -63,7 +68,7 @@ def excel_test(inp: Input, ref: str, resolved: str | None = None) -> str:
     >>> excel_test(CELL_SIZING.get("in_target_basis"), "C9")
     'OR(C9="capacity",C9="energy")'
     >>> excel_test(CELL_SIZING.get("in_separator_um"), "C9")
-    'OR(ISBLANK(C9),AND(ISNUMBER(C9),C9>0))'
+    'OR(ISBLANK(C9),IF(ISNUMBER(C9),C9>0,FALSE))'
     """
     d = inp.domain
     if isinstance(d, Domain):
@@ -86,7 +91,7 @@ def check_formula(inp: Input, ref: str, resolved: str | None = None) -> str:
 
     >>> from udfs.core.sizing_table import CELL_SIZING
     >>> check_formula(CELL_SIZING.get("in_np_ratio"), "in_np_ratio")
-    '=IF(AND(ISNUMBER(in_np_ratio),in_np_ratio>0),"ok","must be > 0")'
+    '=IF(IF(ISNUMBER(in_np_ratio),in_np_ratio>0,FALSE),"ok","must be > 0")'
     """
     return f'=IF({excel_test(inp, ref, resolved)},"ok","{must(inp)}")'
 

@@ -20,7 +20,6 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from ..core import catalogue, procurement
 from ..core.errors import NotFoundError
-from ..core.sizing import price_basis
 from ..core.sizing_table import CELL_SIZING
 from ..core.validate import Names
 from .input_rules import list_name
@@ -49,7 +48,9 @@ def list_entries(names: Names) -> list[str]:
 
 
 def demo_price(name: str) -> tuple[float, str] | None:
-    """The demo price (invented) of a material as (value, 'USD/kg' or 'USD/m^2').
+    """The demo price (invented) of a material as the price list writes it:
+    (value, unit). The workbook parses the unit with ``CW_PRICE``, as the core
+    parses it, so nothing is converted here.
 
     >>> demo_price("PE separator")
     (0.55, 'USD/m^2')
@@ -58,8 +59,7 @@ def demo_price(name: str) -> tuple[float, str] | None:
         fact = catalogue.price(name)
     except NotFoundError:
         return None
-    basis, factor = price_basis(fact.unit, f"demo price of {name!r}")
-    return float(fact.value) * factor, "USD/kg" if basis == "kg" else "USD/m^2"
+    return float(fact.value), fact.unit
 
 
 def _composition_note(name: str) -> tuple[dict[str, float], str]:

@@ -108,8 +108,9 @@ def build_procurement(wb: Workbook, bom: Bom) -> Worksheet:
         style(ws[f"F{row}"], "calc", "#,##0.0").value = f"=D{row}/1000*{factor}"
         style(ws[f"G{row}"], "calc", "#,##0.000").value = f"=F{row}/1000"
         style(ws[f"H{row}"], "calc", "#,##0")
-        if comp.sheet:
-            ws[f"H{row}"] = f"={bom.cell(comp, col['area'])}*{factor}"
+        if comp.sheet or comp.key == "housing":  # foils, separator; a pouch's laminate
+            area = bom.cell(comp, col["area"])
+            ws[f"H{row}"] = f'=IF({area}="","",{area}*{factor})'
         style(ws[f"I{row}"], "calc", "#,##0").value = f"={cells}*{bom.cell(comp, col['cost'])}"
     last = first + len(COMPONENTS) - 1
     total = last + 1
@@ -218,10 +219,10 @@ def build_whatif(wb: Workbook) -> Worksheet:
     w = SheetWriter(wb, ws, Columns(label="B", value="C", unit="D", note="E"), widths)
     last_col = get_column_letter(2 + k)
     w.title(
-        "What-if: cathode loading against N/P ratio",
+        "What-if: cathode loading against N/P ratio (first-charge basis)",
         "Each grid is ONE array formula: CW_CELL_DESIGN runs the sizing model on the inputs "
-        "listed below, with the row of loadings against the column of N/P ratios. Edit the "
-        "green axis values.",
+        "listed below, with the row of loadings against the column of N/P ratios (first-charge "
+        "basis). Edit the green axis values.",
     )
     w.caution(CAUTION, span=k + 1, height=30.0)
     w.skip()
@@ -245,7 +246,7 @@ def build_whatif(wb: Workbook) -> Worksheet:
     inputs = f"$B${inputs_first}:$C${inputs_last}"
     for (title, name, output, fmt), head in zip(GRIDS, heads, strict=True):
         _section_title(ws, head - 1, title)
-        style(ws[f"B{head}"], "band").value = "N/P ratio  /  loading"
+        style(ws[f"B{head}"], "band").value = "N/P (first-charge basis)  /  loading"
         for j in range(k):
             c = get_column_letter(3 + j)
             style(ws[f"{c}{head}"], "band", "0.0").value = f"={c}{axis}"
@@ -263,8 +264,8 @@ def build_whatif(wb: Workbook) -> Worksheet:
         )
         add_colour_scale(ws, area, high_is_good=name == "wi_Wh_kg")
         add_name(wb, name, ws, f"$C${head + 1}:${last_col}${head + m}")
-    validate(ws, _axis("wi_np_ratio", DOWN, "N/P ratio (what-if axis)",
-                       "Anode over cathode areal capacity."), nps.replace("$", ""))
+    validate(ws, _axis("wi_np_ratio", DOWN, "N/P ratio, first-charge basis (what-if axis)",
+                       "Anode over cathode first-charge areal capacity."), nps.replace("$", ""))
     add_name(wb, "wi_np_ratio", ws, nps)
 
     # ---- the two routes at the current inputs

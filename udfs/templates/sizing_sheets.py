@@ -1,11 +1,12 @@
 """The Electrodes and Bill of materials sheets of the cell-sizing workbook.
 
 Every step of ``docs/sizing-model.md`` is one native formula on these sheets;
-catalogue values (capacities, voltages, densities, thicknesses) come from
-``CW_MATERIAL`` of the catalogue's own names (the ``mat_...`` cells of the
-Inputs sheet). The builders return typed references to the cells that later
-sheets read (:class:`ElectrodeCells`, :class:`Bom`); each formula refers to
-cells written above it, so no address is patched in afterwards.
+catalogue values come from ``CW_MATERIAL`` (directly, or through the In use
+cells ``use_...`` of the Inputs sheet, which hold your value, else the
+catalogue's, the recipe's or the preset). The builders return typed
+references to the cells that later sheets read (:class:`ElectrodeCells`,
+:class:`Bom`); each formula refers to cells written above it or to defined
+names, so no address is patched in afterwards.
 """
 
 from __future__ import annotations
@@ -16,8 +17,9 @@ from types import MappingProxyType
 
 from openpyxl.chart import Reference
 from openpyxl.workbook.workbook import Workbook
+from openpyxl.worksheet.worksheet import Worksheet
 
-from ..core.sizing_table import COMPONENTS, SIDES, Component
+from ..core.sizing_table import COMPONENTS, Component
 from .layout import (
     PALETTE,
     Columns,
@@ -41,6 +43,7 @@ __all__ = [
     "build_bom",
     "build_electrodes",
     "ceil_formula",
+    "floor_formula",
     "resolved_name",
     "yours_or_catalogue",
 ]
@@ -58,20 +61,50 @@ def ceil_formula(x: str) -> str:
     return f"IF(ABS({x}-ROUND({x},0))<=1E-9*MAX(ABS({x}),1),ROUND({x},0),ROUNDUP({x},0))"
 
 
+def floor_formula(x: str) -> str:
+    """Whole-number floor that forgives float noise, as the core's ``floor_count``.
+
+    >>> floor_formula("A1")
+    'IF(ABS(A1-ROUND(A1,0))<=1E-9*MAX(ABS(A1),1),ROUND(A1,0),INT(A1))'
+    """
+    return f"IF(ABS({x}-ROUND({x},0))<=1E-9*MAX(ABS({x}),1),ROUND({x},0),INT({x}))"
+
+
+def yours_or_catalogue(given: str, material: Name, prop: str) -> str:
+    """Formula: the user's value when the input cell is filled, else the catalogue's.
+
+    >>> yours_or_catalogue("in_separator_um", Name("mat_separator"), "thickness")
+    '=IF(ISBLANK(in_separator_um),CW_MATERIAL(mat_separator,"thickness"),in_separator_um)'
+    """
+    return f'=IF(ISBLANK({given}),CW_MATERIAL({material},"{prop}"),{given})'
+
+
+def resolved_name(material_input: str) -> Name:
+    """The defined name of the Inputs cell that shows the catalogue's own name
+    of a material input: ``in_cathode`` -> ``mat_cathode``.
+
+    >>> resolved_name("in_cathode_binder2")
+    Name(name='mat_cathode_binder2')
+    """
+    return Name("mat_" + material_input.removeprefix("in_"))
+
+
+def _use(input_name: str) -> str:
+    return "use_" + input_name.removeprefix("in_")
+
+
 class Side:
     """The cells of one electrode on the Electrodes sheet (cathode: column C,
     anode: column D), set as its rows are written."""
 
     material: Ref
-    formula: Ref
     q: Ref
-    v: Ref
-    vref: Ref
+    eta: Ref
     rho: Ref
     f: Ref
     b: Ref
     k: Ref
-    binder: Ref
+    b1: Ref
     b1s: Ref
     rho_b1: Ref
     b2: Ref
@@ -88,13 +121,7 @@ class Side:
     foil: Ref
     t_foil: Ref
     rho_foil: Ref
-    w: Ref
-    h: Ref
-    fp: Ref
-    sheets: Ref
-    area: Ref
-    foil_area: Ref
-    pore: Ref
+    thick: Ref
 
 
 class ElectrodeCells:
@@ -102,29 +129,26 @@ class ElectrodeCells:
 
     cathode: Side
     anode: Side
-    qu: Ref  # usable areal capacity of the cathode
+    np: Ref
+    q1: Ref
+    q_rev: Ref
+    limited: Ref
+    fce: Ref
     V: Ref
+    V_min: Ref
+    V_max: Ref
     T: Ref
-    A_needed: Ref
-    x: Ref
-    n: Ref
+    need: Ref
     sep: Ref
     t_sep: Ref
     eps_sep: Ref
     rho_sep: Ref
-    fp_sep: Ref
-    layers: Ref
-    A_sep: Ref
-    pore_sep: Ref
-    pore: Ref
+    pitch: Ref
+    oa: Ref
+    os: Ref
+    m: Ref
     elyte: Ref
     rho_e: Ref
-    vol_e: Ref
-    cap: Ref
-    energy: Ref
-    stack_t: Ref
-    stack_vol: Ref
-    cell_vol: Ref
 
     def __init__(self) -> None:
         self.cathode, self.anode = Side(), Side()
@@ -157,93 +181,110 @@ class _Pairs:
         self.w.row += 1
         return c, a
 
-    def one(self, label: str, cathode: str, unit: str, note: str, fmt: str | None = None) -> Ref:
-        """A row with a cathode value only."""
-        ws, r = self.w.ws, self.w.row
-        style(ws[f"B{r}"], "text").value = label
-        c = Ref(ws.title, "C", r)
-        style(ws[c.plain], "calc", fmt).value = cathode
-        style(ws[f"E{r}"], "unit").value = unit
-        style(ws[f"F{r}"], "hint").value = note
-        self.w.row += 1
-        return c
+    def sides(
+        self, label: str, formula: Callable[[str], str], unit: str, note: str,
+        kind: Kind = "calc", fmt: str | None = None,
+    ) -> tuple[Ref, Ref]:
+        """A row whose two formulas differ only by the side's name."""
+        return self.row(label, formula("cathode"), formula("anode"), unit, note, kind, fmt)
 
 
-def yours_or_catalogue(given: str, material: Name, prop: str) -> str:
-    """Formula: the user's value when the input cell is filled, else the catalogue's.
+def _binders(p: _Pairs, e: ElectrodeCells) -> None:
+    """The binder(s) in use: the named main binder and an optional second one
+    sharing the binder fraction, else the recipe's (one name, or two with
+    their shares: ``CMC=0.5; SBR=0.5``, split here by text formulas)."""
+    c, a = e.cathode, e.anode
+    p.sides("Binder(s): yours, else the recipe's", lambda s: f"={_use(f'in_{s}_binder')}",
+            "name", "Inputs (In use)")
+    first = p.sides(
+        "Recipe binder text, first part",
+        lambda s: (f'=IF(ISBLANK(in_{s}_binder),IF(ISNUMBER(FIND(";",{_use(f"in_{s}_binder")})),'
+                   f'LEFT({_use(f"in_{s}_binder")},FIND(";",{_use(f"in_{s}_binder")})-1),'
+                   f'{_use(f"in_{s}_binder")}),"")'),
+        "", "recipe only: the text up to ';'")
+    second = p.sides(
+        "Recipe binder text, second part",
+        lambda s: (f'=IF(ISBLANK(in_{s}_binder),IF(ISNUMBER(FIND(";",{_use(f"in_{s}_binder")})),'
+                   f'MID({_use(f"in_{s}_binder")},FIND(";",{_use(f"in_{s}_binder")})+1,255),""),"")'),
+        "", "recipe only: the text after ';' (a recipe names at most two binders here)")
+    parts = {"cathode": (first[0], second[0]), "anode": (first[1], second[1])}
 
-    >>> yours_or_catalogue("in_separator_um", Name("mat_separator"), "thickness")
-    '=IF(ISBLANK(in_separator_um),CW_MATERIAL(mat_separator,"thickness"),in_separator_um)'
-    """
-    return f'=IF(ISBLANK({given}),CW_MATERIAL({material},"{prop}"),{given})'
+    def name1(s: str) -> str:
+        t = parts[s][0]
+        return (f'=IF(ISBLANK(in_{s}_binder),TRIM(IF(ISNUMBER(FIND("=",{t})),'
+                f'LEFT({t},FIND("=",{t})-1),{t})),mat_{s}_binder)')
 
+    def share1(s: str) -> str:
+        t = parts[s][0]
+        return (f'=IF(ISBLANK(in_{s}_binder),IF(ISNUMBER(FIND("=",{t})),'
+                f'VALUE(MID({t},FIND("=",{t})+1,255)),1),1-in_{s}_binder2_share)')
 
-def resolved_name(material_input: str) -> Name:
-    """The defined name of the Inputs cell that shows the catalogue's own name
-    of a material input: ``in_cathode`` -> ``mat_cathode``.
+    def name2(s: str) -> str:
+        t = parts[s][1]
+        return (f'=IF(ISBLANK(in_{s}_binder),IF({t}="","(none)",IF(ISNUMBER(FIND(";",{t})),NA(),'
+                f'TRIM(LEFT({t},FIND("=",{t})-1)))),'
+                f'IF(in_{s}_binder2_share=0,"(none)",mat_{s}_binder2))')
 
-    >>> resolved_name("in_cathode_binder2")
-    Name(name='mat_cathode_binder2')
-    """
-    return Name("mat_" + material_input.removeprefix("in_"))
+    def share2(s: str) -> str:
+        t = parts[s][1]
+        return (f'=IF(ISBLANK(in_{s}_binder),IF({t}="",0,VALUE(MID({t},FIND("=",{t})+1,255))),'
+                f"in_{s}_binder2_share)")
+
+    c.b1, a.b1 = p.sides("Binder", name1, "name", "yours, else the recipe's first")
+    c.b1s, a.b1s = p.sides("Share of the binder fraction", share1, "of binder",
+                           "1 - share of the second binder; recipe: its share", fmt=PCT)
+    c.rho_b1, a.rho_b1 = p.row(
+        "Binder density", f'=CW_MATERIAL({c.b1},"density")', f'=CW_MATERIAL({a.b1},"density")',
+        "g/cm3", "catalogue", "lookup", "0.00")
+    c.b2, a.b2 = p.sides("Second binder", name2, "name",
+                         "yours (none when its share is 0), else the recipe's second")
+    c.b2s, a.b2s = p.sides("Share of the binder fraction", share2, "of binder",
+                           "yours, else the recipe's", fmt=PCT)
+    c.rho_b2, a.rho_b2 = p.row(
+        "Second binder density", f'=IF({c.b2}="(none)","",CW_MATERIAL({c.b2},"density"))',
+        f'=IF({a.b2}="(none)","",CW_MATERIAL({a.b2},"density"))', "g/cm3", "catalogue",
+        "lookup", "0.00")
 
 
 def _coatings(p: _Pairs, e: ElectrodeCells) -> None:
-    """Materials, fractions, densities, areal capacities, loadings, thicknesses."""
+    """Materials, capacities, fractions, densities, loadings, thicknesses."""
     c, a = e.cathode, e.anode
-    m = {s: resolved_name(f"in_{s}") for s in SIDES}
 
-    def lookup(label: str, prop: str, unit: str, fmt: str | None = None) -> tuple[Ref, Ref]:
-        return p.row(label, f'=CW_MATERIAL({m["cathode"]},"{prop}")',
-                     f'=CW_MATERIAL({m["anode"]},"{prop}")', unit, "catalogue", "lookup", fmt)
+    def info(label: str, prop: str, unit: str, fmt: str | None = None) -> None:
+        p.sides(label, lambda s: f'=IFERROR(CW_MATERIAL(mat_{s},"{prop}"),"(none)")', unit,
+                "catalogue (information)", "lookup", fmt)
 
-    c.material, a.material = p.row("Active material", f"={m['cathode']}", f"={m['anode']}",
-                                   "name", "Inputs (the catalogue's name)")
-    c.formula, a.formula = lookup("Formula", "formula", "")
-    c.q, a.q = p.row(
-        "Specific capacity used",
-        yours_or_catalogue("in_cathode_mAh_g", m["cathode"], "practical_capacity"),
-        yours_or_catalogue("in_anode_mAh_g", m["anode"], "practical_capacity"),
-        "mAh/g", "your input, else the catalogue's practical capacity", "lookup", "0.0")
-    c.v, a.v = lookup("Average voltage", "average_voltage", "V", "0.000")
-    c.vref, a.vref = lookup("Voltage reference", "voltage_reference", "")
-    c.rho, a.rho = lookup("Density of the active material", "density", "g/cm3", "0.00")
-    c.f, a.f = p.row("Active fraction", "=in_cathode_active", "=in_anode_active", "of coating",
-                     "Inputs", fmt=PCT)
-    c.b, a.b = p.row("Binder fraction", "=in_cathode_binder_fraction",
-                     "=in_anode_binder_fraction", "of coating", "Inputs", fmt=PCT)
+    c.material, a.material = p.row("Active material", "=mat_cathode", "=mat_anode", "name",
+                                   "Inputs (the catalogue's name)")
+    info("Formula", "formula", "")
+    c.q, a.q = p.sides("First-charge specific capacity",
+                       lambda s: f"={_use(f'in_{s}_first_charge')}", "mAh/g",
+                       "Inputs (In use): yours, else the catalogue's first charge", "lookup",
+                       "0.0")
+    c.eta, a.eta = p.sides("First-cycle efficiency", lambda s: f"={_use(f'in_{s}_fce')}",
+                           "fraction", "Inputs (In use): yours, else the catalogue's", "lookup",
+                           PCT)
+    info("Average discharge voltage", "average_voltage", "V", "0.000")
+    info("Voltage reference", "voltage_reference", "")
+    c.rho, a.rho = p.sides("Density of the active material",
+                           lambda s: f'=CW_MATERIAL(mat_{s},"density")', "g/cm3", "catalogue",
+                           "lookup", "0.00")
+    c.f, a.f = p.sides("Active fraction", lambda s: f"={_use(f'in_{s}_active')}", "of coating",
+                       "Inputs (In use): yours, else the recipe's", fmt=PCT)
+    c.b, a.b = p.sides("Binder fraction", lambda s: f"={_use(f'in_{s}_binder_fraction')}",
+                       "of coating", "Inputs (In use): yours, else the recipe's", fmt=PCT)
     c.k, a.k = p.row(
         "Conductive carbon fraction",
         f"=IF({c.f}+{c.b}-1>1E-12,NA(),MAX(1-{c.f}-{c.b},0))",
         f"=IF({a.f}+{a.b}-1>1E-12,NA(),MAX(1-{a.f}-{a.b},0))",
-        "of coating", "1 - active - binder; #N/A if negative", fmt=PCT)
-    b1 = {s: resolved_name(f"in_{s}_binder") for s in SIDES}
-    b2 = {s: resolved_name(f"in_{s}_binder2") for s in SIDES}
-    c.binder, a.binder = p.row("Binder", f"={b1['cathode']}", f"={b1['anode']}", "name",
-                               "Inputs")
-    c.b1s, a.b1s = p.row("Share of the binder fraction", "=1-in_cathode_binder2_share",
-                         "=1-in_anode_binder2_share", "of binder",
-                         "1 - share of the second binder", fmt=PCT)
-    c.rho_b1, a.rho_b1 = p.row(
-        "Binder density", f'=CW_MATERIAL({b1["cathode"]},"density")',
-        f'=CW_MATERIAL({b1["anode"]},"density")', "g/cm3", "catalogue", "lookup", "0.00")
-    c.b2, a.b2 = p.row(
-        "Second binder", f'=IF(in_cathode_binder2_share=0,"(none)",{b2["cathode"]})',
-        f'=IF(in_anode_binder2_share=0,"(none)",{b2["anode"]})', "name",
-        "Inputs; (none) when its share is 0")
-    c.b2s, a.b2s = p.row("Share of the binder fraction", "=in_cathode_binder2_share",
-                         "=in_anode_binder2_share", "of binder", "Inputs", fmt=PCT)
-    c.rho_b2, a.rho_b2 = p.row(
-        "Second binder density",
-        f'=IF(in_cathode_binder2_share=0,"",CW_MATERIAL({b2["cathode"]},"density"))',
-        f'=IF(in_anode_binder2_share=0,"",CW_MATERIAL({b2["anode"]},"density"))',
-        "g/cm3", "catalogue", "lookup", "0.00")
-    carbon = {s: resolved_name(f"in_{s}_carbon") for s in SIDES}
-    c.carbon, a.carbon = p.row("Conductive carbon", f"={carbon['cathode']}",
-                               f"={carbon['anode']}", "name", "Inputs")
+        "of coating", "1 - active - binder (other additives count as carbon); #N/A if negative",
+        fmt=PCT)
+    _binders(p, e)
+    c.carbon, a.carbon = p.sides("Conductive carbon", lambda s: f"={_use(f'in_{s}_carbon')}",
+                                 "name", "Inputs (In use): yours, else the recipe's")
     c.rho_k, a.rho_k = p.row(
-        "Carbon density", f'=CW_MATERIAL({carbon["cathode"]},"density")',
-        f'=CW_MATERIAL({carbon["anode"]},"density")', "g/cm3", "catalogue", "lookup", "0.00")
+        "Carbon density", f'=CW_MATERIAL({c.carbon},"density")',
+        f'=CW_MATERIAL({a.carbon},"density")', "g/cm3", "catalogue", "lookup", "0.00")
 
     def solids(s: Side) -> str:
         return (
@@ -253,57 +294,49 @@ def _coatings(p: _Pairs, e: ElectrodeCells) -> None:
 
     c.rho_solid, a.rho_solid = p.row("Density of the dry coating solids", solids(c), solids(a),
                                      "g/cm3", "1 / sum(mass fraction / density)", fmt="0.000")
-    c.eps, a.eps = p.row("Coating porosity", "=in_cathode_porosity", "=in_anode_porosity",
-                         "of volume", "Inputs", fmt=PCT)
+    c.eps, a.eps = p.sides("Coating porosity", lambda s: f"={_use(f'in_{s}_porosity')}",
+                           "of volume", "Inputs (In use): yours, else the recipe's", fmt=PCT)
     c.rho_coat, a.rho_coat = p.row(
         "Coating density", f"={c.rho_solid}*(1-{c.eps})", f"={a.rho_solid}*(1-{a.eps})",
         "g/cm3", "solids density x (1 - porosity)", fmt="0.000")
     c.qa, a.qa = p.row(
-        "Areal capacity per side",
+        "Areal capacity per side, first-charge basis",
         f'=IF(in_loading_basis="areal capacity",in_loading,in_loading*{c.f}*{c.q}/1000)',
         lambda cathode: f"=in_np_ratio*{cathode}",
-        "mAh/cm2", "cathode: loading x active fraction x mAh/g / 1000; anode: N/P x cathode",
-        fmt="0.000")
-    e.qu = p.one("Usable areal capacity per side", f"={c.qa}*(1-in_first_cycle_loss)",
-                 "mAh/cm2", "cathode areal capacity x (1 - first-cycle loss)", "0.000")
+        "mAh/cm2", "cathode: loading x active fraction x first-charge mAh/g / 1000; anode: "
+        "N/P (first-charge basis) x cathode", fmt="0.000")
     c.load, a.load = p.row(
         "Loading per side (whole coating)",
         f'=IF(in_loading_basis="areal capacity",{c.qa}*1000/({c.f}*{c.q}),in_loading)',
         f"={a.qa}*1000/({a.f}*{a.q})",
-        "mg/cm2", "areal capacity x 1000 / (active fraction x mAh/g)", fmt="0.00")
+        "mg/cm2", "areal capacity x 1000 / (active fraction x first-charge mAh/g)", fmt="0.00")
     c.t, a.t = p.row("Coating thickness per side", f"={c.load}*10/{c.rho_coat}",
                      f"={a.load}*10/{a.rho_coat}", "um", "loading x 10 / coating density",
                      fmt="0.0")
-    foil = {s: resolved_name(f"in_{s}_foil") for s in SIDES}
-    c.foil, a.foil = p.row("Current collector foil", f"={foil['cathode']}", f"={foil['anode']}",
-                           "name", "Inputs")
-    c.t_foil, a.t_foil = p.row(
-        "Foil thickness", yours_or_catalogue("in_cathode_foil_um", foil["cathode"], "thickness"),
-        yours_or_catalogue("in_anode_foil_um", foil["anode"], "thickness"),
-        "um", "your input, else the catalogue", "lookup", "0.0")
+    c.foil, a.foil = p.sides("Current collector foil", lambda s: f"={_use(f'in_{s}_foil')}",
+                             "name", "Inputs (In use): yours, else the recipe's")
+    c.t_foil, a.t_foil = p.sides("Foil thickness", lambda s: f"={_use(f'in_{s}_foil_um')}",
+                                 "um", "Inputs (In use): yours, else the catalogue's", "lookup",
+                                 "0.0")
     c.rho_foil, a.rho_foil = p.row(
-        "Foil density", f'=CW_MATERIAL({foil["cathode"]},"density")',
-        f'=CW_MATERIAL({foil["anode"]},"density")', "g/cm3", "catalogue", "lookup", "0.00")
-    c.w, a.w = p.row("Sheet width", "=in_width", "=in_width+2*in_anode_overhang", "mm",
-                     "anode: cathode + 2 x overhang", fmt="0.0")
-    c.h, a.h = p.row("Sheet height", "=in_height", "=in_height+2*in_anode_overhang", "mm",
-                     "anode: cathode + 2 x overhang", fmt="0.0")
-    c.fp, a.fp = p.row("Sheet footprint", f"={c.w}*{c.h}/100", f"={a.w}*{a.h}/100", "cm2",
-                       "width x height / 100", fmt="#,##0.0")
+        "Foil density", f'=CW_MATERIAL({c.foil},"density")', f'=CW_MATERIAL({a.foil},"density")',
+        "g/cm3", "catalogue", "lookup", "0.00")
+    c.thick, a.thick = p.row(
+        "Electrode thickness (foil and two coatings)", f"={c.t_foil}+2*{c.t}",
+        f"={a.t_foil}+2*{a.t}", "um", "foil + 2 x coating", fmt="0.0")
 
 
 def build_electrodes(wb: Workbook) -> ElectrodeCells:
-    """Coatings, the sheet count, sheets and areas, capacity, energy and volume,
-    top to bottom in the order they are found (no cell reads one below it
-    except through the sheet count's block)."""
+    """Coatings, the capacity basis, voltages, the target and the layers, top
+    to bottom in the order they are found."""
     ws = wb.create_sheet("Electrodes")
     w = SheetWriter(wb, ws, Columns(label="B", value="C", unit="E", note="F"),
-                    {"A": 2.5, "B": 36.0, "C": 20.0, "D": 20.0, "E": 11.0, "F": 62.0})
+                    {"A": 2.5, "B": 40.0, "C": 20.0, "D": 20.0, "E": 11.0, "F": 66.0})
     w.title(
-        "Electrodes and cell",
-        "Coatings, sheet count, capacity, energy and volume from the Inputs sheet. "
-        "Lavender cells read the catalogue through CW_ functions; white cells are plain "
-        "arithmetic.",
+        "Electrodes: coatings and the capacity basis",
+        "Coatings, first-charge areal capacities, N/P on the first-charge basis, the reversible "
+        "capacity after both first-cycle losses, voltages and the layers of the repeat unit. "
+        "Lavender cells read the catalogue through CW_ functions; white cells are arithmetic.",
     )
     e = ElectrodeCells()
     c, a = e.cathode, e.anode
@@ -313,80 +346,68 @@ def build_electrodes(wb: Workbook) -> ElectrodeCells:
     _coatings(p, e)
 
     def val(label: str, formula: str, unit: str, note: str, kind: Kind = "calc",
-            fmt: str | None = None) -> Ref:
-        return w.value(label, formula, unit, note, kind, fmt)
+            fmt: str | None = None, name: str | None = None) -> Ref:
+        return w.value(label, formula, unit, note, kind, fmt, name)
 
-    # ---- the sheet count
+    # ---- the capacity basis (per unit of facing area)
     w.skip()
-    w.band(["Sheet count", "Value", "", "Unit", "How it is found"])
-    e.V = val("Nominal cell voltage",
-              f"=IF(ISBLANK(in_voltage),IF({c.vref}={a.vref},"
-              f"IF({c.v}-{a.v}>0,{c.v}-{a.v},NA()),NA()),in_voltage)",
-              "V", "your input, else cathode - anode average voltage (same reference)",
-              fmt="0.000")
-    e.T = val("Target capacity", f'=IF(in_target_basis="energy",in_target/{e.V},in_target)',
-              "Ah", "energy target / nominal voltage, or the capacity target", fmt="0.00")
-    e.A_needed = val("Cathode face area needed", f"={e.T}*1000/{e.qu}", "cm2",
-                     "target Ah x 1000 / usable areal capacity", fmt="#,##0")
-    e.x = val("Cathode sheets needed, unrounded", f"={e.A_needed}/(2*{c.fp})", "sheets",
-              "area needed / (2 faces x footprint)", fmt="0.000")
-    e.n = val("Cathode sheets, n", f"=MAX(1,{ceil_formula(str(e.x))})", "sheets",
-              "rounded up (values within 1e-9 of a whole number count as that number)", fmt="0")
+    w.band(["Capacity basis", "Value", "", "Unit", "How it is found (docs/sizing-model.md)"])
+    e.np = val("N/P ratio, first-charge basis", "=in_np_ratio", "ratio",
+               "Inputs: anode over cathode first-charge areal capacity", fmt="0.000")
+    e.q1 = val("Charge passed on the first charge, Q1", f"=MIN({c.qa},{a.qa})", "mAh/cm2",
+               "min(cathode, anode first-charge areal capacity): below N/P 1 the anode is full "
+               "first", fmt="0.0000")
+    loss = val("Anode's first-cycle loss", f"={a.qa}*(1-{a.eta})", "mAh/cm2",
+               "anode first-charge areal capacity x (1 - its first-cycle efficiency)",
+               fmt="0.0000")
+    cathode_cap = val("Cathode's own limit", f"={c.qa}*{c.eta}", "mAh/cm2",
+                      "cathode first-charge areal capacity x its first-cycle efficiency",
+                      fmt="0.0000")
+    back = val("Lithium left to cycle", f"={e.q1}-{loss}", "mAh/cm2",
+               "Q1 - the anode's loss", fmt="0.0000")
+    e.q_rev = val("Reversible areal capacity, Q_rev", f"=MIN({cathode_cap},{back})", "mAh/cm2",
+                  "the lower of the two (no loss is taken twice)", "result", "0.0000")
+    e.limited = val("Anode limits the capacity", f"=IF({back}<{cathode_cap},1,0)", "1 = yes",
+                    "its loss (or, below N/P 1, its size) sets the capacity", fmt="0")
+    e.fce = val("Cell first-cycle efficiency", f"={e.q_rev}/{e.q1}", "fraction", "Q_rev / Q1",
+                fmt=PCT)
+    e.V = val("Nominal cell voltage", f"={_use('in_voltage')}", "V",
+              "Inputs (In use): yours, else cathode - anode average discharge voltage (same "
+              "reference)", "lookup", "0.000")
+    e.V_min = val("Cell voltage, lower limit", f"={_use('in_voltage_min')}", "V",
+                  "Inputs (In use): yours, else the couple's window", "lookup", "0.000")
+    e.V_max = val("Cell voltage, upper limit", f"={_use('in_voltage_max')}", "V",
+                  "Inputs (In use): yours, else the couple's window", "lookup", "0.000")
+    e.T = val("Target capacity",
+              f'=IF(in_sizing_mode="target",IF(in_target_basis="energy",in_target/{e.V},'
+              'in_target),"")',
+              "Ah", "target mode: energy target / nominal voltage, or the capacity target",
+              fmt="0.00")
+    e.need = val("Coated cathode area needed (both faces)",
+                 f'=IF(in_sizing_mode="target",{e.T}*1000/{e.q_rev},"")', "cm2",
+                 "target mode: target Ah x 1000 / Q_rev", fmt="#,##0.0")
 
-    # ---- sheets and areas of each electrode
+    # ---- layers of the repeat unit
     w.skip()
-    w.band(["Sheets and areas", "Cathode", "Anode", "Unit", "How it is found"])
-    c.sheets, a.sheets = p.row("Sheets in the stack", f"={e.n}", f"={e.n}+1", "sheets",
-                               "n cathodes, n + 1 anodes (anodes outside)", fmt="0")
-    c.area, a.area = p.row("Coated area, both faces", f"=2*{e.n}*{c.fp}", f"=2*{e.n}*{a.fp}",
-                           "cm2", "2 n x footprint (outer anode faces bare)", fmt="#,##0")
-    c.foil_area, a.foil_area = p.row("Foil area", f"={e.n}*{c.fp}", f"=({e.n}+1)*{a.fp}", "cm2",
-                                     "sheets x footprint", fmt="#,##0")
-    c.pore, a.pore = p.row("Pore volume of the coatings", f"={c.area}*{c.t}*1E-4*{c.eps}",
-                           f"={a.area}*{a.t}*1E-4*{a.eps}", "cm3",
-                           "coated area x thickness x porosity", fmt="0.00")
-
-    # ---- the cell
-    w.skip()
-    w.band(["Cell", "Value", "", "Unit", "How it is found"])
-    sep, elyte = resolved_name("in_separator"), resolved_name("in_electrolyte")
-    e.sep = val("Separator", f"={sep}", "name", "Inputs (the catalogue's name)")
-    e.t_sep = val("Separator thickness", yours_or_catalogue("in_separator_um", sep, "thickness"),
-                  "um", "your input, else the catalogue", "lookup", "0.0")
-    e.eps_sep = val("Separator porosity",
-                    yours_or_catalogue("in_separator_porosity", sep, "porosity"),
-                    "of volume", "your input, else the catalogue", "lookup", PCT)
-    e.rho_sep = val("Density of the separator polymer", f'=CW_MATERIAL({sep},"density")',
+    w.band(["Layers", "Value", "", "Unit", "How it is found"])
+    e.sep = val("Separator", "=mat_separator", "name", "Inputs (the catalogue's name)")
+    e.t_sep = val("Separator thickness", f"={_use('in_separator_um')}", "um",
+                  "Inputs (In use): yours, else the catalogue's", "lookup", "0.0")
+    e.eps_sep = val("Separator porosity", f"={_use('in_separator_porosity')}", "of volume",
+                    "Inputs (In use): yours, else the catalogue's", "lookup", PCT)
+    e.rho_sep = val("Density of the separator polymer", f'=CW_MATERIAL({e.sep},"density")',
                     "g/cm3", "catalogue (the solid, not the porous film)", "lookup", "0.00")
-    e.fp_sep = val("Separator footprint",
-                   "=(in_width+2*in_anode_overhang+2*in_separator_overhang)"
-                   "*(in_height+2*in_anode_overhang+2*in_separator_overhang)/100",
-                   "cm2", "anode sheet + 2 x separator overhang, each way", fmt="#,##0.0")
-    e.layers = val("Separator layers", f"=2*{e.n}", "layers", "2 n", fmt="0")
-    e.A_sep = val("Separator area", f"=2*{e.n}*{e.fp_sep}", "cm2", "layers x footprint",
-                  fmt="#,##0")
-    e.pore_sep = val("Pore volume of the separator", f"={e.A_sep}*{e.t_sep}*1E-4*{e.eps_sep}",
-                     "cm3", "area x thickness x porosity", fmt="0.00")
-    e.pore = val("Pore volume of the stack", f"={c.pore}+{a.pore}+{e.pore_sep}", "cm3",
-                 "cathode + anode + separator pores", fmt="0.00")
-    e.elyte = val("Electrolyte", f"={elyte}", "name", "Inputs (the catalogue's name)")
-    e.rho_e = val("Electrolyte density", f'=CW_MATERIAL({elyte},"density")', "g/cm3",
+    e.pitch = val("Repeat unit (pitch)", f"={c.thick}+{a.thick}+2*{e.t_sep}", "um",
+                  "cathode + anode + 2 separators", fmt="0.0")
+    e.oa = val("Anode overhang, each edge", "=in_anode_overhang", "mm", "Inputs", fmt="0.00")
+    e.os = val("Separator overhang beyond the anode", "=in_separator_overhang", "mm", "Inputs",
+               fmt="0.00")
+    e.m = val("Separator wider than the cathode coating, m", f"=2*{e.oa}+2*{e.os}", "mm",
+              "2 x anode overhang + 2 x separator overhang", fmt="0.00")
+    e.elyte = val("Electrolyte", f"={_use('in_electrolyte')}", "name",
+                  "Inputs (In use): yours, else by the couple's family")
+    e.rho_e = val("Electrolyte density", f'=CW_MATERIAL({e.elyte},"density")', "g/cm3",
                   "catalogue", "lookup", "0.00")
-    e.vol_e = val("Electrolyte volume", f"=in_electrolyte_fill*{e.pore}", "cm3",
-                  "fill x pore volume", fmt="0.00")
-    e.cap = val("Capacity", f"={c.area}*{e.qu}/1000", "Ah",
-                "cathode coated area x usable areal capacity / 1000", "result", "0.00")
-    e.energy = val("Energy", f"={e.cap}*{e.V}", "Wh", "capacity x nominal voltage", "result",
-                   "0.0")
-    e.stack_t = val("Stack thickness",
-                    f"={e.n}*({c.t_foil}+2*{c.t})+({e.n}+1)*{a.t_foil}"
-                    f"+2*{e.n}*{a.t}+2*{e.n}*{e.t_sep}",
-                    "um", "n (foil + 2 coatings) + (n + 1) foils + 2n anode coatings + 2n "
-                    "separators", fmt="#,##0")
-    e.stack_vol = val("Stack volume", f"={a.fp}*{e.stack_t}*1E-4", "cm3",
-                      "anode footprint x stack thickness", fmt="#,##0.0")
-    e.cell_vol = val("Cell volume", f"={e.stack_vol}/in_volume_efficiency", "cm3",
-                     "stack volume / (stack volume / cell volume)", fmt="#,##0.0")
     finish_sheet(ws, freeze="C5")
     return e
 
@@ -394,53 +415,91 @@ def build_electrodes(wb: Workbook) -> ElectrodeCells:
 # --------------------------------------------------------------------------- bill of materials
 
 
+@dataclass(frozen=True)
+class CellCells:
+    """The cells of the Format sheet that the Bill of materials reads: the
+    geometry in use (``geo[field]``), the pore volume, capacity and energy,
+    and the densities of the tabs and the housing."""
+
+    geo: Mapping[str, Ref]
+    pore: Ref
+    capacity: Ref
+    energy: Ref
+    rho_cathode_tab: Ref
+    rho_anode_tab: Ref
+    rho_housing: Ref
+    fits: tuple[Ref, ...]  # each format block's fit check ("", "ok" or the message)
+
+
 def _side(comp: Component, e: ElectrodeCells) -> Side:
     return e.cathode if comp.key.startswith("cathode") else e.anode
 
 
-def _mass_formula(comp: Component, e: ElectrodeCells) -> str:
+def _material_formula(comp: Component, e: ElectrodeCells) -> str:
     part = comp.key.split("_", 1)[-1]
-    if comp.key in ("separator", "electrolyte", "cathode_tab", "anode_tab", "housing"):
-        return {
-            "separator": f"={e.A_sep}*{e.t_sep}*1E-4*{e.rho_sep}*(1-{e.eps_sep})",
-            "electrolyte": f"=in_electrolyte_fill*{e.pore}*{e.rho_e}",
-            "cathode_tab": "=in_tab_mass",
-            "anode_tab": "=in_tab_mass",
-            "housing": "=in_housing_mass",
-        }[comp.key]
+    if comp.key in ("cathode_active", "anode_active"):
+        return f"=mat_{comp.key.split('_')[0]}"
+    if part == "binder":
+        return f"={_side(comp, e).b1}"
+    if part == "binder2":
+        return f"={_side(comp, e).b2}"
+    if comp.key in ("separator", "cathode_tab"):
+        return f"=mat_{comp.key}"
+    return f"={_use(comp.material)}"  # carbons, foils, electrolyte, anode tab, housing
+
+
+def _mass_formula(comp: Component, e: ElectrodeCells, cell: CellCells) -> str:
+    g = cell.geo
+    part = comp.key.split("_", 1)[-1]
+    if comp.key == "separator":
+        return (f"={g['separator_area_cm2']}*{e.t_sep}*1E-4*{e.rho_sep}*(1-{e.eps_sep})")
+    if comp.key == "electrolyte":
+        return f"=in_electrolyte_fill*{cell.pore}*{e.rho_e}"
+    if comp.key in ("cathode_tab", "anode_tab"):
+        rho = cell.rho_cathode_tab if comp.key == "cathode_tab" else cell.rho_anode_tab
+        return f"=IF(ISBLANK(in_tab_mass),{g['tab_cm3']}*{rho},in_tab_mass)"
+    if comp.key == "housing":
+        return (f"=IF(ISBLANK(in_housing_mass),{g['housing_body_cm3']}*{cell.rho_housing}"
+                f"+{g['housing_lid_cm3']}*{cell.rho_housing},in_housing_mass)")
     s = _side(comp, e)
-    coating = {
-        "active": str(s.f),
-        "binder": f"({s.b}*{s.b1s})",
-        "binder2": f"({s.b}*{s.b2s})",
-        "carbon": str(s.k),
-    }
-    if part in coating:  # loading x mass fraction x coated area / 1000
-        return f"={s.load}*{coating[part]}*{s.area}/1000"
+    side = comp.key.split("_")[0]
+    area = g[f"{side}_coated_area_cm2"]
+    if part == "active":
+        return f"={s.load}*{s.f}*{area}/1000"
+    if part == "binder":
+        return f"={s.load}*({s.b}*{s.b1s})*{area}/1000"
+    if part == "binder2":
+        return f'=IF({s.b2}="(none)",0,{s.load}*({s.b}*{s.b2s})*{area}/1000)'
+    if part == "carbon":
+        return f"={s.load}*{s.k}*{area}/1000"
     if part == "foil":
-        return f"={s.foil_area}*{s.t_foil}*1E-4*{s.rho_foil}"
+        return f"={g[f'{side}_foil_area_cm2']}*{s.t_foil}*1E-4*{s.rho_foil}"
     raise KeyError(comp.key)
 
 
-def _material_formula(comp: Component, e: ElectrodeCells) -> str:
-    if comp.optional:  # a second binder: "(none)" when its share is 0
-        return f"={_side(comp, e).b2}"
-    return f"={resolved_name(comp.material)}"
-
-
-def _area_formula(comp: Component, e: ElectrodeCells) -> str | None:
+def _area_formula(comp: Component, cell: CellCells) -> str | None:
+    g = cell.geo
     if comp.key == "separator":
-        return f"={e.A_sep}/10000"
+        return f"={g['separator_area_cm2']}/10000"
     if comp.key.endswith("_foil"):
-        return f"={_side(comp, e).foil_area}/10000"
+        return f"={g[comp.key.split('_')[0] + '_foil_area_cm2']}/10000"
+    if comp.key == "housing":  # the pouch's laminate is a sheet too
+        return f'=IF(in_format="pouch",{g["housing_area_cm2"]}/10000,"")'
     return None
 
 
 BOM_HEADERS = (
     "Component", "Material", "Mass per cell", "Share of mass", "Sheet area per cell",
-    "Scrap applies", "Price", "Price unit", "Cost per good cell", "Share of cost",
+    "Scrap applies", "Price", "Price unit", "Price in USD/kg", "Cost per good cell",
+    "Share of cost",
 )
-BOM_UNITS = ("", "", "g", "of cell mass", "m2", "", "USD per unit", "", "USD", "of cost")
+BOM_UNITS = ("", "", "g", "of cell mass", "m2", "", "as quoted", "", "USD/kg", "USD",
+             "of cost")
+#: Bill of materials: column letter of each value.
+BOM_COLUMNS = {"material": "C", "mass": "D", "share": "E", "area": "F", "scrap": "G",
+               "price": "H", "unit": "I", "usd_kg": "J", "cost": "K", "cost_share": "L"}
+#: Helper columns (hidden): a given price's material, value and unit; the row's problem.
+_KEY, _GIVEN, _GIVEN_UNIT, _PROBLEM = "N", "O", "P", "Q"
 
 
 @dataclass(frozen=True)
@@ -457,25 +516,72 @@ class Bom:
         """The cell of ``comp``'s row in ``column`` (see :data:`BOM_COLUMNS`)."""
         return Ref(self.sheet, column, self.rows[comp])
 
+    @property
+    def problems(self) -> list[Ref]:
+        """Each row's price problem ("" when none), for ``err_prices``."""
+        return [Ref(self.sheet, _PROBLEM, r) for r in self.rows.values()]
 
-#: Bill of materials: column letter of each value.
-BOM_COLUMNS = {"material": "C", "mass": "D", "area": "F", "scrap": "G", "price": "H",
-               "unit": "I", "cost": "J"}
+
+def _price_cells(ws: Worksheet, comp: Component, row: int, first: int, last: int,
+                 e: ElectrodeCells) -> None:
+    """Price, unit, USD/kg and the helper cells of one component row.
+
+    A price typed on any row prices that material on every row that uses it
+    (the core prices by material); a blank price takes the demo list's. The
+    unit is parsed by ``CW_PRICE`` (mass, area, volume or count bases, any
+    currency of the exchange-rate table) and turned into USD/kg with the fact
+    that links the bases: the row's mass per m2 of sheet, the electrolyte's
+    density, the mass of one piece (a tab, the housing)."""
+    c = f"C{row}"
+    keys, given, units = (f"${col}${first}:${col}${last}" for col in (_KEY, _GIVEN, _GIVEN_UNIT))
+    price_in, unit_in, material_in = comp.price, comp.price_unit, comp.material
+    style(ws[f"{_GIVEN}{row}"], "calc").value = (
+        f'=IF(OR({c}="(none)",ISBLANK({price_in}),ISBLANK({material_in})),"",{price_in})')
+    style(ws[f"{_KEY}{row}"], "calc").value = f'=IF({_GIVEN}{row}="","",{c})'
+    style(ws[f"{_GIVEN_UNIT}{row}"], "calc").value = (
+        f'=IF({_GIVEN}{row}="","",IF(ISBLANK({unit_in}),"",{unit_in}))')
+    hit = f"MATCH({c},{keys},0)"
+    demo = f"MATCH({c},list_material,0)"
+    style(ws[f"H{row}"], "calc", "#,##0.00").value = (
+        f'=IF({c}="(none)",0,IF(ISNUMBER({hit}),INDEX({given},{hit}),'
+        f"IFERROR(INDEX(list_demo_price,{demo})*1,NA())))")
+    style(ws[f"I{row}"], "calc").value = (
+        f'=IF({c}="(none)","USD/kg",IF(ISNUMBER({hit}),INDEX({units},{hit}),'
+        f"IFERROR(INDEX(list_demo_unit,{demo}),NA())))")
+    areal = f'IF(F{row}="",0,D{row}/F{row})'
+    density = str(e.rho_e) if comp.key == "electrolyte" else "0"
+    piece = f"D{row}" if comp.key in ("cathode_tab", "anode_tab", "housing") else "0"
+    style(ws[f"J{row}"], "lookup", "#,##0.000").value = (
+        f'=IF({c}="(none)",0,CW_PRICE(H{row},I{row},"USD/kg",{areal},{density},{piece}))')
+    conflict = (f"SUMPRODUCT(({keys}={_KEY}{row})*(({given}<>{_GIVEN}{row})"
+                f"+({units}<>{_GIVEN_UNIT}{row})))>0")
+    style(ws[f"{_PROBLEM}{row}"], "hint").value = (
+        f'=IF(AND({_GIVEN}{row}<>"",{conflict}),"{comp.label}: two different prices for "&{c}'
+        f'&" (one price per material); ",'
+        f'IF(AND(NOT(ISBLANK({price_in})),{c}<>"(none)",ISBLANK({material_in})),'
+        f'"{comp.label}: a price for the recipe\'s material; name the material ({material_in}) '
+        f'to price it; ",'
+        f'IF(ISERROR(J{row}),IF(ISERROR(H{row}),"{comp.label}: no demo price for "&{c}&"; give '
+        f'one; ",IF(I{row}="","{comp.label}: give the unit of its price; ","{comp.label}: its '
+        f'price unit cannot be turned into USD/kg for this component; ")),"")))')
 
 
-def build_bom(wb: Workbook, e: ElectrodeCells) -> Bom:
+def build_bom(wb: Workbook, e: ElectrodeCells, cell: CellCells) -> Bom:
     """One row per component: mass, share, price, cost per good cell; key figures; chart."""
     ws = wb.create_sheet("Bill of materials")
     w = SheetWriter(
         wb, ws, Columns(label="B", value="C", unit="D", note="E"),
         {"A": 2.5, "B": 30.0, "C": 24.0, "D": 13.0, "E": 10.0, "F": 12.0, "G": 9.0,
-         "H": 10.0, "I": 10.0, "J": 13.0, "K": 10.0},
+         "H": 10.0, "I": 10.0, "J": 11.0, "K": 13.0, "L": 10.0, "M": 3.0,
+         _KEY: 4.0, _GIVEN: 4.0, _GIVEN_UNIT: 4.0, _PROBLEM: 4.0},
     )
+    for col in (_KEY, _GIVEN, _GIVEN_UNIT, _PROBLEM):
+        ws.column_dimensions[col].hidden = True
     w.title("Bill of materials")
-    cathode, anode = resolved_name("in_cathode"), resolved_name("in_anode")
-    w.text(f'=IF(ISBLANK(in_scenario),"",in_scenario&"  |  ")&{cathode}&" / "&{anode}'
-           '&" stacked cell"', kind="hint", span=10, height=30.0)
-    w.caution(CAUTION, span=10, height=30.0)
+    w.text('=IF(ISBLANK(in_scenario),"",in_scenario&"  |  ")&mat_cathode&" / "&mat_anode'
+           '&", "&in_format&" cell ("&in_sizing_mode&" mode)"', kind="hint", span=11,
+           height=30.0)
+    w.caution(CAUTION, span=11, height=30.0)
     w.skip()
     w.band(list(BOM_HEADERS))
     for k, unit in enumerate(BOM_UNITS):
@@ -490,67 +596,67 @@ def build_bom(wb: Workbook, e: ElectrodeCells) -> Bom:
         rows[comp] = row
         style(ws[f"B{row}"], "text").value = comp.label
         style(ws[f"C{row}"], "calc").value = _material_formula(comp, e)
-        style(ws[f"D{row}"], "calc", "#,##0.00").value = _mass_formula(comp, e)
+        style(ws[f"D{row}"], "calc", "#,##0.00").value = _mass_formula(comp, e, cell)
         style(ws[f"E{row}"], "calc", PCT).value = f"=D{row}/$D${total}"
-        area = _area_formula(comp, e)
+        area = _area_formula(comp, cell)
         style(ws[f"F{row}"], "calc", "0.0000")
         if area:
             ws[f"F{row}"] = area
         style(ws[f"G{row}"], "text").value = "yes" if comp.electrode else "no"
-        price_in, unit_in = comp.price, comp.price_unit
-        demo = f"INDEX(list_demo_price,MATCH(C{row},list_material,0))"
-        style(ws[f"H{row}"], "calc", "#,##0.00").value = (
-            f'=IF(C{row}="(none)",0,IF(ISBLANK({price_in}),IF(ISNUMBER({demo}),{demo},NA()),'
-            f"{price_in}))"
-        )
-        style(ws[f"I{row}"], "calc").value = (
-            f'=IF(C{row}="(none)","USD/kg",IF(ISBLANK({price_in}),'
-            f"INDEX(list_demo_unit,MATCH(C{row},list_material,0)),"
-            f"IF(ISBLANK({unit_in}),NA(),{unit_in})))"
-        )
-        style(ws[f"J{row}"], "calc", "#,##0.000").value = (
-            f'=IF(I{row}="USD/m^2",IF(F{row}="",NA(),F{row}),D{row}/1000)'
-            f'/IF(G{row}="yes",1-in_scrap,1)*H{row}/in_yield'
-        )
-        style(ws[f"K{row}"], "calc", PCT).value = f"=J{row}/$J${total}"
+        _price_cells(ws, comp, row, first, last, e)
+        style(ws[f"K{row}"], "calc", "#,##0.000").value = (
+            f'=D{row}/1000/IF(G{row}="yes",1-in_scrap,1)*J{row}/in_yield')
+        style(ws[f"L{row}"], "calc", PCT).value = f"=K{row}/$K${total}"
     style(ws[f"B{total}"], "result").value = "Total"
     style(ws[f"D{total}"], "result", "#,##0.00").value = f"=SUM(D{first}:D{last})"
     style(ws[f"E{total}"], "result", PCT).value = f"=SUM(E{first}:E{last})"
-    style(ws[f"J{total}"], "result", "#,##0.000").value = f"=SUM(J{first}:J{last})"
-    style(ws[f"K{total}"], "result", PCT).value = f"=SUM(K{first}:K{last})"
+    style(ws[f"K{total}"], "result", "#,##0.000").value = f"=SUM(K{first}:K{last})"
+    style(ws[f"L{total}"], "result", PCT).value = f"=SUM(L{first}:L{last})"
     add_name(wb, "out_cell_mass_g", ws, f"$D${total}")
-    add_name(wb, "out_cost_per_cell_USD", ws, f"$J${total}")
-    w.row = total + 2
+    add_name(wb, "out_cost_per_cell_USD", ws, f"$K${total}")
+    w.row = total + 1
+    w.text("Prices: yours (Inputs) price that material on every row that uses it; blank takes "
+           "the demo price list (invented demo data). CW_PRICE reads each unit (per kg, t, g, "
+           "m^2, L, each ...; a currency of data/exchange_rates.csv, latest rate) and turns it "
+           "into USD/kg with the row's mass per m2, the electrolyte's density or the mass of one "
+           "piece.", kind="hint", span=11)
 
     # ---- key figures
     w.section("Key figures")
+    g = cell.geo
     figures = (
         ("out_voltage_V", "Nominal voltage", f"={e.V}", "V", "0.000"),
-        ("out_capacity_Ah", "Capacity", f"={e.cap}", "Ah", "0.00"),
-        ("out_energy_Wh", "Energy", f"={e.energy}", "Wh", "0.0"),
-        ("out_cathode_sheets", "Cathode sheets (anodes: n + 1)", f"={e.n}", "sheets", "0"),
-        ("out_cell_volume_cm3", "Cell volume", f"={e.cell_vol}", "cm3", "#,##0.0"),
-        ("out_Wh_kg", "Specific energy", f"={e.energy}/($D${total}/1000)", "Wh/kg", "0.0"),
-        ("out_Wh_L", "Energy density", f"={e.energy}/({e.cell_vol}/1000)", "Wh/L", "0.0"),
-        ("out_cost_per_kWh_USD", "Cost per kWh", f"=$J${total}/({e.energy}/1000)", "USD/kWh",
+        ("out_capacity_Ah", "Capacity (reversible)", f"={cell.capacity}", "Ah", "0.00"),
+        ("out_energy_Wh", "Energy", f"={cell.energy}", "Wh", "0.0"),
+        ("out_cell_height_mm", "Cell height (outer)", f"={g['cell_height_mm']}", "mm", "0.0"),
+        ("out_cell_volume_cm3", "Cell volume", f"={g['cell_volume_cm3']}", "cm3", "#,##0.0"),
+        ("out_Wh_kg", "Specific energy", f"={cell.energy}/($D${total}/1000)", "Wh/kg", "0.0"),
+        ("out_Wh_L", "Energy density", f"={cell.energy}/({g['cell_volume_cm3']}/1000)", "Wh/L",
+         "0.0"),
+        ("out_cost_per_kWh_USD", "Cost per kWh", f"=$K${total}/({cell.energy}/1000)", "USD/kWh",
          "0.0"),
     )
     for name, label, formula, unit, fmt in figures:
         w.value(label, formula, unit, kind="result", number_format=fmt, name=name)
+    w.value("Outer size",
+            f'=IF(in_format="cylindrical",TEXT({g["cell_diameter_mm"]},"0.0")&" dia. x "'
+            f'&TEXT({g["cell_height_mm"]},"0.0"),TEXT({g["cell_width_mm"]},"0.0")&" x "'
+            f'&TEXT({g["cell_height_mm"]},"0.0")&" x "&TEXT({g["cell_thickness_mm"]},"0.00"))',
+            "mm", "Format sheet")
     w.text("Costs are materials only, per good cell: electrode materials (coatings and foils) "
-           "are divided by (1 - electrode scrap), every item by the cell yield. Prices without "
-           "your input come from the demo price list (invented demo data).", kind="hint", span=4)
+           "are divided by (1 - electrode scrap), every item by the cell yield.", kind="hint",
+           span=4)
 
     # ---- chart: cost by component
-    chart_row = total + 2
+    chart_row = total + 4
     heading(ws[f"F{chart_row}"], "Cost per good cell by component, USD")
     chart = bar_chart(
         True,
-        Reference(ws, min_col=10, min_row=first, max_row=last),
+        Reference(ws, min_col=11, min_row=first, max_row=last),
         Reference(ws, min_col=2, min_row=first, max_row=last),
         "USD per good cell", "0.00", PALETTE["band_fill"], (11.5, 12.2),
     )
     ws.add_chart(chart, f"F{chart_row + 1}")
     finish_sheet(ws, landscape=True, freeze=f"C{first}")
-    ws.print_area = f"A1:K{total + 27}"  # the table, key figures and the chart
+    ws.print_area = f"A1:L{total + 30}"  # the table, key figures and the chart
     return Bom(ws.title, MappingProxyType(rows), first, last, total)

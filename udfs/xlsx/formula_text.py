@@ -59,7 +59,7 @@ _TOKEN = re.compile(
 _CELL = re.compile(r"(\$?)([A-Za-z]{1,3})(\$?)([0-9]{1,7})")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Area:
     """A rectangle of cells with the ``$`` flags of its first and last corner.
 
@@ -103,7 +103,7 @@ class Area:
         return a + ":" + part(self.r2, self.c2, self.abs_r2, self.abs_c2)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Token:
     """One token: ``kind`` is string, error, array, ref, number, func, name, space or op.
 

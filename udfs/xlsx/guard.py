@@ -8,37 +8,87 @@ Two passes, both bounded:
    part past its declared size, so these checks bound all later reading.
    Only stored and deflated parts are accepted (what spreadsheet programs write).
 2. **Structure** with defusedxml (a DTD or entity declaration in any part is
-   refused): the workbook part, its sheets and names; the part maps of the
-   package (relationships and [Content_Types].xml) must agree, so every reader
-   reads the parts checked here; the number of cell formats. External links and
-   macros are reported, never followed or run. The sheets' own limits (rows,
-   cells, formulas, strings, ranges) are checked by :mod:`udfs.xlsx.reader` in
-   the one pass that reads them.
+   refused; every XML part must be UTF-8, or UTF-16 with its byte-order mark,
+   as XML and the Open Packaging Conventions require): the workbook part, its
+   sheets and names; the part maps of the package (relationships and
+   [Content_Types].xml) must agree, so every reader reads the parts checked
+   here; the entries of the styles part
+   (streamed, never built into a tree; ``xl/styles.xml`` too, which openpyxl
+   reads whatever the relationships say). External links and macros are
+   reported, never followed or run. The sheets' own limits (rows, cells,
+   formulas, strings, ranges) are checked by :mod:`udfs.xlsx.reader` in the one
+   pass that reads them.
+
+**The promise.** A workbook within these limits is read, evaluated and
+written by ``cellwright calc`` within PROMISED_SECONDS (20 s) and
+PROMISED_PEAK_MIB (768 MiB of peak resident memory, interpreter and libraries
+included) on a 2-core machine; past any of them it is refused with a one-line
+reason before the work that grows with it starts (tests/xlsx/test_hostile.py
+runs both kinds of file through the command and measures them).
+``--max-formulas`` raises the formula limit (and, in proportion, the cells,
+rows, formula text and cell reads: :func:`limits_for`), and with it the promise.
 
 The limits (module constants, bundled in :class:`Limits`):
 
 =========================  ===========  ==========================================
-limit                      value        why
+limit                      value        what is counted
 =========================  ===========  ==========================================
 MAX_INPUT_BYTES            32 MiB       size of the .xlsx file itself
 MAX_PARTS                  1,000        zip entries (a workbook has tens)
-MAX_PART_BYTES             64 MiB       one part, uncompressed
-MAX_TOTAL_BYTES            256 MiB      all parts, uncompressed
+MAX_PART_BYTES             32 MiB       one part, uncompressed
+MAX_TOTAL_BYTES            64 MiB       all parts, uncompressed
 MAX_RATIO                  100          uncompressed/compressed, parts over 1 MiB
-MAX_CELLS                  1,000,000    ``<c>`` elements in all sheets
-MAX_FORMULA_CELLS          200,000      formula cells (``--max-formulas`` raises it)
-MAX_ROWS                   250,000      ``<row>`` elements (millions of empty rows)
+MAX_CELLS                  400,000      ``<c>`` elements in all sheets
+MAX_FORMULA_CELLS          200,000      formula cells, every cell an array formula
+                                        fills included (``--max-formulas``)
+MAX_ROWS                   400,000      ``<row>`` elements (millions of empty rows)
 MAX_SHARED_STRINGS         500,000      shared-strings table entries
+MAX_TEXT_LENGTH            32,767       characters of one text cell (Excel's limit)
 MAX_DEFINED_NAMES          10,000       defined names
 MAX_FORMULA_LENGTH         8,192        characters, Excel's own limit
 MAX_NESTING                64           nested function calls, Excel's own limit
-MAX_RANGES                 100,000      merged ranges, hyperlinks, data validations,
-                                        conditional formats (each kind)
-MAX_STYLES                 65,000       cell formats in the styles part (Excel: 64,000)
+MAX_RANGES                 100,000      ranges listed by merged cells, hyperlinks,
+                                        data validations and conditional formats
+                                        (each kind; a list of ranges counts each)
+MAX_FORMULA_TEXT           1,000,000    characters of the distinct formulas, as
+                                        written (relative to their cells) and as
+                                        shapes to parse (references and constants
+                                        taken out; about 7 us a character)
+MAX_CELL_READS             8,000,000    cells read by ranges, once per evaluation
+                                        of each formula reading them (a range that
+                                        grows down a column reads n^2/2 cells)
+MAX_STYLES                 65,000       entries of each list of the styles part:
+                                        cell formats, fonts, fills, borders, number
+                                        formats ... (Excel: 64,000 cell formats)
 =========================  ===========  ==========================================
 
-A hostile file is refused after reading at most MAX_TOTAL_BYTES of XML; on a
-2-core machine the tests see every refusal in well under the 10 s they allow.
+Merged ranges may cover at most MAX_CELLS cells in all, and hyperlinks as many
+(other readers make a cell object for each); array formulas are bounded by
+the formula limit, every cell they fill counted.
+
+The engine checks MAX_FORMULA_TEXT and MAX_CELL_READS after planning, before
+it parses or computes anything (:mod:`udfs.engine.plan`,
+:mod:`udfs.engine.evaluator`): they bound the work that the counts above do not
+(long distinct formulas, ranges that grow with the row).
+
+**The formulas package's own model.** A workbook the plan declines (a
+circular reference under iterative calculation, a formula the plan does not
+run) is run by the plain ``formulas.ExcelModel``, which reads the whole file
+with openpyxl and works through every cell position from A1 to the last
+cell of each sheet. It is about a hundred times slower, so it takes a workbook
+only within the narrower FALLBACK limits (:func:`udfs.xlsx.reader.check_fallback`):
+
+=========================  ===========  ==========================================
+MAX_FALLBACK_CELLS         10,000       cell positions from A1 to the last cell
+                                        (merged and hyperlinked ranges included),
+                                        all sheets
+MAX_FALLBACK_FORMULAS      1,000        formula cells (array formula cells included)
+MAX_FALLBACK_RANGES        1,000        merged ranges, hyperlinks, data validation
+                                        and conditional format ranges, in all
+MAX_FALLBACK_XML_BYTES     8 MiB        XML parts, uncompressed, in all
+=========================  ===========  ==========================================
+
+A hostile file is refused after reading at most MAX_TOTAL_BYTES of XML.
 
 >>> formula_nesting("IF(A1>0,ROUND(SQRT(A1),2),0)")
 3
@@ -51,14 +101,20 @@ import zipfile
 from dataclasses import dataclass, field
 
 from .file_errors import HostileFileError, WorkbookError
-from .package import Package, local
+from .package import Package, known_encoding
 
 __all__ = [
     "DEFAULT_LIMITS",
     "MAX_CELLS",
+    "MAX_CELL_READS",
     "MAX_DEFINED_NAMES",
+    "MAX_FALLBACK_CELLS",
+    "MAX_FALLBACK_FORMULAS",
+    "MAX_FALLBACK_RANGES",
+    "MAX_FALLBACK_XML_BYTES",
     "MAX_FORMULA_CELLS",
     "MAX_FORMULA_LENGTH",
+    "MAX_FORMULA_TEXT",
     "MAX_INPUT_BYTES",
     "MAX_NESTING",
     "MAX_PARTS",
@@ -68,30 +124,52 @@ __all__ = [
     "MAX_ROWS",
     "MAX_SHARED_STRINGS",
     "MAX_STYLES",
+    "MAX_TEXT_LENGTH",
     "MAX_TOTAL_BYTES",
+    "PROMISED_PEAK_MIB",
+    "PROMISED_SECONDS",
     "Limits",
     "PackageReport",
     "check_package",
     "formula_nesting",
+    "limits_for",
 ]
 
 MiB = 1024 * 1024
+#: Wall time and peak resident memory of ``cellwright calc`` on any workbook within the limits.
+PROMISED_SECONDS = 20.0
+# 512 MiB held while the formula limit was 10,000; with 200,000 formula cells the
+# worst file measured (every limit at once) peaks at about 710 MiB
+PROMISED_PEAK_MIB = 768
 MAX_INPUT_BYTES = 32 * MiB
 MAX_PARTS = 1_000
-MAX_PART_BYTES = 64 * MiB
-MAX_TOTAL_BYTES = 256 * MiB
+MAX_PART_BYTES = 32 * MiB
+MAX_TOTAL_BYTES = 64 * MiB
 MAX_RATIO = 100.0
 RATIO_MIN_BYTES = 1 * MiB  # small parts may compress better than 100:1 harmlessly
-MAX_CELLS = 1_000_000
+MAX_CELLS = 400_000
 MAX_FORMULA_CELLS = 200_000
-MAX_ROWS = 250_000
+#: characters of the distinct formula shapes the engine parses (numbers, strings and
+#: references left out): parsing costs about 7 us a character
+MAX_FORMULA_TEXT = 1_000_000
+#: cells read by ranges, counted once per evaluation of each formula that reads them
+#: (a range growing down a column, SUM(A$1:A2), SUM(A$1:A3) ..., reads n^2/2 cells)
+MAX_CELL_READS = 8_000_000
+MAX_ROWS = 400_000
 MAX_SHARED_STRINGS = 500_000
+MAX_TEXT_LENGTH = 32_767
 MAX_DEFINED_NAMES = 10_000
 MAX_FORMULA_LENGTH = 8_192
 MAX_NESTING = 64
 MAX_RANGES = 100_000
 MAX_STYLES = 65_000
-_PROLOG_PARTS = (".xml", ".rels", ".vml")
+MAX_FALLBACK_CELLS = 10_000
+MAX_FALLBACK_FORMULAS = 1_000
+MAX_FALLBACK_RANGES = 1_000
+MAX_FALLBACK_XML_BYTES = 8 * MiB
+_XML_PARTS = (".xml", ".rels")
+_PROLOG_PARTS = (*_XML_PARTS, ".vml")
+_STYLES_PART = "xl/styles.xml"  # where openpyxl reads the styles, whatever the relationships say
 
 
 @dataclass(frozen=True)
@@ -108,14 +186,40 @@ class Limits:
     formula_cells: int = MAX_FORMULA_CELLS
     rows: int = MAX_ROWS
     shared_strings: int = MAX_SHARED_STRINGS
+    text_length: int = MAX_TEXT_LENGTH
     defined_names: int = MAX_DEFINED_NAMES
     formula_length: int = MAX_FORMULA_LENGTH
     nesting: int = MAX_NESTING
     ranges: int = MAX_RANGES
     styles: int = MAX_STYLES
+    fallback_cells: int = MAX_FALLBACK_CELLS
+    fallback_formulas: int = MAX_FALLBACK_FORMULAS
+    fallback_ranges: int = MAX_FALLBACK_RANGES
+    fallback_xml_bytes: int = MAX_FALLBACK_XML_BYTES
+    formula_text: int = MAX_FORMULA_TEXT
+    cell_reads: int = MAX_CELL_READS
 
 
 DEFAULT_LIMITS = Limits()
+
+
+def limits_for(formula_cells: int) -> Limits:
+    """The limits with room for ``formula_cells`` formula cells (``--max-formulas``):
+    a larger limit raises, in proportion, the cells, rows, formula text and cell reads
+    that so many formulas need (and with them the time and memory promised); a
+    smaller one lowers only the formula limit.
+
+    >>> limits_for(400_000).cells, limits_for(1_000).cells == MAX_CELLS
+    (800000, True)
+    """
+    scale = max(1.0, formula_cells / MAX_FORMULA_CELLS)
+    return Limits(
+        formula_cells=formula_cells,
+        cells=int(MAX_CELLS * scale),
+        rows=int(MAX_ROWS * scale),
+        formula_text=int(MAX_FORMULA_TEXT * scale),
+        cell_reads=int(MAX_CELL_READS * scale),
+    )
 
 
 @dataclass
@@ -128,6 +232,7 @@ class PackageReport:
     rows: int = 0
     shared_strings: int = 0
     shared_strings_part: str | None = None
+    xml_bytes: int = 0  # all XML parts, uncompressed
     macros: list[str] = field(default_factory=list)
     external_links: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
@@ -207,17 +312,26 @@ def _check_directory(pkg: Package, limits: Limits) -> None:
 
 
 def _check_prologs(pkg: Package) -> None:
-    """Every XML part: refuse a DTD (entity expansion, external entities)."""
+    """Every XML part: refuse a DTD (entity expansion, external entities) and any encoding
+    but UTF-8 and UTF-16 (legacy VML drawings, often not well-formed, are checked for a DTD
+    only)."""
     for info in pkg.infos:
-        if not info.filename.lower().endswith(_PROLOG_PARTS):
+        low = info.filename.lower()
+        if not low.endswith(_PROLOG_PARTS):
             continue
         try:
-            for _elem in pkg.iter_xml(info.filename, events=("start",)):
-                break  # a DTD can only come before the first element
+            declared = pkg.prolog(info.filename)
         except HostileFileError:
             raise
-        except Exception:  # malformed non-essential parts (VML) are not our concern
+        except WorkbookError:  # malformed non-essential parts (VML) are not our concern
             continue
+        if low.endswith(_XML_PARTS) and known_encoding(declared) is None:
+            what = declared if "without" in declared else f"the encoding {declared[:40]!r}"
+            raise WorkbookError(
+                f"{pkg.name}: {info.filename} is written in {what}; the parts of a workbook "
+                "must be UTF-8 or UTF-16 with its byte-order mark (XML, Open Packaging "
+                "Conventions): open it in a spreadsheet program and save it again"
+            )
 
 
 def _check_maps(pkg: Package, rep: PackageReport) -> None:
@@ -256,18 +370,38 @@ def _check_maps(pkg: Package, rep: PackageReport) -> None:
             )
 
 
+class _StyleCounter:
+    """Counts the entries of each list of a styles part (styleSheet > list > entry)."""
+
+    def __init__(self, pkg: Package, part: str, limit: int):
+        self.pkg, self.part, self.limit = pkg, part, limit
+        self.path: list[str] = []
+        self.counts: dict[str, int] = {}
+
+    def start(self, tag: str, _attrs: dict[str, str]) -> None:
+        self.path.append(tag)
+        if len(self.path) == 3:
+            kind = self.path[1]
+            n = self.counts[kind] = self.counts.get(kind, 0) + 1
+            if n > self.limit:
+                raise HostileFileError(
+                    self.pkg.name, f"more than {self.limit:,} entries in {kind} of {self.part}"
+                )
+
+    def end(self, _tag: str) -> None:
+        self.path.pop()
+
+    def run(self) -> None:
+        self.pkg.scan(self.part, self.start, self.end, lambda _text: None)
+
+
 def _check_styles(pkg: Package, limits: Limits) -> None:
-    for rtype, target, _mode in pkg.relationships(pkg.workbook_part).values():
-        if rtype != "/styles" or target not in pkg.names:
-            continue
-        count = 0
-        for elem in pkg.iter_xml(target):
-            if local(elem.tag) == "xf":
-                count += 1
-                if count > limits.styles:
-                    raise HostileFileError(
-                        pkg.name, f"more than {limits.styles:,} cell formats in {target}"
-                    )
+    """The entries of each list of the styles part (cell formats, fonts, fills, ...), counted
+    while streaming it: the part the relationships name and the one openpyxl reads."""
+    parts = {t for rt, t, _ in pkg.relationships(pkg.workbook_part).values() if rt == "/styles"}
+    parts.add(_STYLES_PART)
+    for part in sorted(p for p in parts if p in pkg.names):
+        _StyleCounter(pkg, part, limits.styles).run()
 
 
 def _report_active_content(pkg: Package, rep: PackageReport) -> None:
@@ -309,10 +443,17 @@ def check_package(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> Pa
     _check_prologs(pkg)
     pkg.read_structure(limits.defined_names)
     rep = PackageReport(pkg)
+    rep.xml_bytes = sum(
+        i.file_size for i in pkg.infos if i.filename.lower().endswith(_PROLOG_PARTS)
+    )
     for sheet in pkg.worksheets():
         if sheet.part not in pkg.names:
             raise WorkbookError(f"{name}: damaged: sheet {sheet.name!r} points at a missing part")
     _check_maps(pkg, rep)
     _check_styles(pkg, limits)
     _report_active_content(pkg, rep)
+    if pkg.invalid_names:
+        shown = ", ".join(repr(n[:40]) for n in pkg.invalid_names[:3])
+        more = f" and {len(pkg.invalid_names) - 3:,} more" if len(pkg.invalid_names) > 3 else ""
+        rep.notes.append(f"defined names that are not valid names ignored: {shown}{more}")
     return rep

@@ -4,6 +4,18 @@ Only the structure is read here: which part is the workbook, which parts are
 its sheets, its defined names, and where relationships point. Every XML part
 goes through defusedxml (no DTD, no entities, no external resources).
 
+Encodings: the Open Packaging Conventions (ECMA-376 Part 2) allow the XML
+parts of a package in UTF-8 or UTF-16 only; :meth:`Package.prolog` says
+which a part declares (and refuses a DTD), :func:`known_encoding` whether
+that is one of the two. Code that rewrites a part reads it
+with :func:`part_text` and writes it back with :func:`part_bytes`: UTF-8, its
+XML declaration saying so, whatever the part was in.
+
+Defined names that are not names (:func:`valid_name`: a name starts with a
+letter, ``_`` or ``\\``, holds letters, digits, ``_``, ``.``, ``\\`` or ``?``,
+at most 255 characters, and is not a cell reference) are set aside in
+:attr:`Package.invalid_names`, never used.
+
 >>> import io, openpyxl
 >>> wb = openpyxl.Workbook(); wb.active.title = "Inputs"
 >>> buf = io.BytesIO(); wb.save(buf)
@@ -14,6 +26,7 @@ goes through defusedxml (no DTD, no entities, no external resources).
 
 from __future__ import annotations
 
+import codecs
 import contextlib
 import io
 import posixpath
@@ -29,23 +42,99 @@ from defusedxml import DefusedXmlException
 from defusedxml.ElementTree import fromstring, iterparse
 
 from .file_errors import HostileFileError, WorkbookError
-from .refs import CellRef, col_index, sheet_key
+from .refs import MAX_COL, MAX_ROW, CellRef, col_index, sheet_key
 
 __all__ = [
+    "PART_ENCODINGS",
     "DefinedName",
     "Package",
     "SheetEntry",
+    "known_encoding",
     "local",
+    "part_bytes",
+    "part_text",
     "rels_path",
     "resolve_target",
+    "valid_name",
 ]
 
 OLE_SIGNATURE = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"  # encrypted .xlsx and legacy .xls
 OFFICE_DOCUMENT = "/officeDocument"
+#: Encodings the parts of a package may use (Open Packaging Conventions).
+PART_ENCODINGS = ("UTF-8", "UTF-16")
+_ENCODING_NAMES = {"UTF8": "UTF-8", "UTF16": "UTF-16", "UTF16LE": "UTF-16", "UTF16BE": "UTF-16"}
+_XML_DECL = re.compile(
+    r"""^<\?xml\s[^>]*?\bencoding\s*=\s*(?P<q>["'])(?P<enc>[^"']*)(?P=q)""", re.S
+)
+_NAME = re.compile(r"^[^\W\d]|^[_\\]")
+_NAME_REST = re.compile(r"^[\w.\\?]*$")
+_A1_NAME = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]{1,7})$")
+_R1C1_NAME = re.compile(r"^[Rr](\[?-?[0-9]*\]?)?([Cc](\[?-?[0-9]*\]?)?)?$|^[Cc](\[?-?[0-9]*\]?)?$")
 _SINGLE_CELL = re.compile(
     r"^=?\s*(?:'(?P<q>(?:[^']|'')+)'|(?P<s>[^'!\s(),][^'!(),]*))!\$?(?P<c>[A-Za-z]{1,3})\$?"
     r"(?P<r>[0-9]{1,7})\s*$"
 )
+
+
+class _PrologEndError(Exception):
+    """The first element of a part has started: its prolog has been read."""
+
+
+def valid_name(name: str) -> bool:
+    """Whether ``name`` can be a defined name (the rules Excel applies when one is made).
+
+    >>> [valid_name(n) for n in ("load", "_xlnm.Print_Area", "Größe", "XFE1", "TAX2019")]
+    [True, True, True, True, False]
+    >>> [valid_name(n) for n in ("R1C1", "rc", "=HYPERLINK(1)", "a b", "")]
+    [False, False, False, False, False]
+    """
+    if not name or len(name) > 255 or not _NAME.match(name) or not _NAME_REST.match(name):
+        return False
+    m = _A1_NAME.match(name)
+    if m is not None and col_index(m.group(1)) <= MAX_COL and 1 <= int(m.group(2)) <= MAX_ROW:
+        return False  # a cell reference
+    return not _R1C1_NAME.match(name)
+
+
+def known_encoding(name: str) -> str | None:
+    """"UTF-8" or "UTF-16" for the names of those encodings, None for any other.
+
+    >>> known_encoding("utf-8"), known_encoding("UTF-16LE"), known_encoding("ISO-8859-1")
+    ('UTF-8', 'UTF-16', None)
+    """
+    return _ENCODING_NAMES.get(name.upper().replace("-", "").replace("_", ""))
+
+
+def part_text(raw: bytes, part: str = "part") -> str:
+    """The text of an XML part in UTF-8 or UTF-16 (byte-order mark or not), without the mark.
+
+    >>> part_text('<?xml version="1.0" encoding="UTF-16"?><a>é</a>'.encode("utf-16"))
+    '<?xml version="1.0" encoding="UTF-16"?><a>é</a>'
+    """
+    try:
+        if raw.startswith(codecs.BOM_UTF8):
+            return raw[len(codecs.BOM_UTF8) :].decode("utf-8")
+        if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+            return raw.decode("utf-16")
+        if raw.startswith(b"<\0"):
+            return raw.decode("utf-16-le")
+        if raw.startswith(b"\0<"):
+            return raw.decode("utf-16-be")
+        return raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise WorkbookError(f"damaged part {part}: not UTF-8 or UTF-16 text") from None
+
+
+def part_bytes(text: str) -> bytes:
+    """The bytes to store for an XML part's text: UTF-8, its declaration saying UTF-8.
+
+    >>> part_bytes('<?xml version="1.0" encoding="UTF-16"?><a>é</a>')
+    b'<?xml version="1.0" encoding="UTF-8"?><a>\\xc3\\xa9</a>'
+    """
+    m = _XML_DECL.match(text)
+    if m is not None and m.group("enc").upper() != "UTF-8":
+        text = text[: m.start("enc")] + "UTF-8" + text[m.end("enc") :]
+    return text.encode("utf-8")
 
 
 def local(tag: str) -> str:
@@ -113,6 +202,7 @@ class Package:
         self.workbook_part = ""  # found by read_structure()
         self.sheets: list[SheetEntry] = []
         self.defined_names: list[DefinedName] = []
+        self.invalid_names: list[str] = []  # defined names that are not names: never used
         self.has_calc_pr = False
         self.iterate = False  # calcPr asks for iterative calculation
         self._types: tuple[dict[str, str], dict[str, str]] | None = None
@@ -175,10 +265,53 @@ class Package:
         parser.EndElementHandler = lambda name: end(name.rpartition(":")[2])
         parser.CharacterDataHandler = text
         with self._reading(part), self.zip.open(part) as fh:
+            try:  # in chunks read here: an error in a callback stops the parse at once
+                while chunk := fh.read(1 << 16):
+                    parser.Parse(chunk, False)
+                parser.Parse(b"", True)
+            except expat.ExpatError as exc:
+                if exc.code == expat.errors.codes[expat.errors.XML_ERROR_NO_MEMORY]:
+                    raise MemoryError from None
+                raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+
+    def prolog(self, part: str) -> str:
+        """The encoding of an XML part as it says (its declaration, else "UTF-16" for a
+        UTF-16 byte-order mark, else "UTF-8"; UTF-16 text without the mark XML requires is
+        "UTF-16 without a byte-order mark"), read up to its first element.
+
+        A DTD is refused (HostileFileError); see :func:`known_encoding` for the encodings
+        a package may use.
+        """
+        declared: list[str] = []
+
+        def refuse(*_args: object) -> None:
+            raise HostileFileError(self.name, f"{part} declares a DTD or entities")
+
+        def first(*_args: object) -> None:
+            raise _PrologEndError
+
+        parser = expat.ParserCreate()
+        parser.SetParamEntityParsing(expat.XML_PARAM_ENTITY_PARSING_NEVER)
+        parser.StartDoctypeDeclHandler = refuse
+        parser.EntityDeclHandler = refuse
+        parser.XmlDeclHandler = lambda _version, enc, _standalone: declared.append(enc or "")
+        parser.StartElementHandler = first
+        with self._reading(part), self.zip.open(part) as fh:
+            head = fh.read(4)
             try:
-                parser.ParseFile(fh)
+                parser.Parse(head, False)
+                while chunk := fh.read(4096):
+                    parser.Parse(chunk, False)
+                parser.Parse(b"", True)
+            except _PrologEndError:
+                pass
             except expat.ExpatError as exc:
                 raise WorkbookError(f"{self.name}: damaged part {part}: {exc}") from None
+        if head.startswith((b"<\0", b"\0<")):  # XML requires the mark in UTF-16 text
+            return "UTF-16 without a byte-order mark"
+        if declared and declared[0]:
+            return declared[0]
+        return "UTF-16" if head.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)) else "UTF-8"
 
     def relationships(self, part: str) -> dict[str, tuple[str, str, str]]:
         """Relationships of ``part``: id -> (type suffix, target part, target mode)."""
@@ -231,6 +364,9 @@ class Package:
                         self.name, f"more than {max_defined_names} defined names"
                     )
                 lsid = el.get("localSheetId")
+                if not valid_name(el.get("name", "")):
+                    self.invalid_names.append(el.get("name", ""))
+                    continue
                 self.defined_names.append(
                     DefinedName(
                         el.get("name", ""),

@@ -3,9 +3,17 @@
 One streaming pass (defusedxml) over exactly the parts the evaluator uses: the
 sheets the workbook part lists, its shared strings and its tables. Every
 limit of :class:`udfs.xlsx.guard.Limits` is checked while reading, before any
-work grows with it: cells, rows, formula cells, formula length and nesting,
-shared strings, array-formula extents, merged ranges, hyperlinks, data
-validations and conditional formats (which other readers expand cell by cell).
+work grows with it: cells (inside the sheet, A1:XFD1048576), rows, formula
+cells (every cell an array formula fills counts as one), formula length and
+nesting, shared strings, text length, merged ranges, hyperlinks, data
+validations and conditional formats (every range they list; merged and
+hyperlinked ranges also by the cells they cover, which other readers expand
+cell by cell).
+
+The reader also notes what other readers will see: each sheet's grid from A1
+to its last cell, merged and hyperlinked ranges included (``grid_rows`` by
+``grid_cols``), and the ranges the file lists; :func:`check_fallback` refuses
+a workbook too large for the formulas package's own model before it runs.
 
 Values: numbers are floats, text is str, TRUE/FALSE bool, error cells
 :class:`~udfs.sheet.error_values.SheetError`. Shared formulas are kept as their
@@ -35,7 +43,14 @@ from .guard import DEFAULT_LIMITS, Limits, PackageReport, check_package, formula
 from .package import DefinedName, Package, local
 from .refs import MAX_COL, MAX_ROW, col_index, sheet_key
 
-__all__ = ["FormulaCell", "SheetData", "Table", "WorkbookData", "read_workbook"]
+__all__ = [
+    "FormulaCell",
+    "SheetData",
+    "Table",
+    "WorkbookData",
+    "check_fallback",
+    "read_workbook",
+]
 
 _COORD = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]{1,7})$")
 _ERROR_CODES = {
@@ -44,7 +59,7 @@ _ERROR_CODES = {
 }
 
 
-@dataclass
+@dataclass(slots=True)
 class FormulaCell:
     """A formula as stored: ``text`` (with "="), written for the ``anchor`` cell.
 
@@ -82,6 +97,8 @@ class SheetData:
     formulas: dict[tuple[int, int], FormulaCell] = field(default_factory=dict)
     max_row: int = 0
     max_col: int = 0
+    grid_rows: int = 0  # the last row and column any ``<c>``, merged or hyperlinked range
+    grid_cols: int = 0  # reaches (other readers make a cell for each position up to them)
 
     @property
     def key(self) -> str:
@@ -114,6 +131,7 @@ class WorkbookData:
     defined_names: list[DefinedName]
     tables: list[Table]
     iterate: bool = False  # the workbook asks for iterative calculation
+    ranges: int = 0  # merged, hyperlinked, validated and conditionally formatted ranges
 
     def sheet(self, name: str) -> SheetData | None:
         """The worksheet called ``name``, compared as Excel compares sheet names."""
@@ -134,23 +152,28 @@ def _span(ref: str) -> tuple[int, int, int, int] | None:
     return (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
 
 
-def _area_of(sqref: str, what: str, name: str) -> int:
-    """Cells covered by a space-separated list of ranges (whole columns included)."""
-    total = 0
-    for part in sqref.split():
-        span = _span(part)
-        if span is None:
-            m = re.fullmatch(r"\$?([A-Za-z]{1,3}):\$?([A-Za-z]{1,3})", part)
-            n = re.fullmatch(r"\$?([0-9]+):\$?([0-9]+)", part)
-            if m:
-                total += MAX_ROW * (abs(col_index(m.group(2)) - col_index(m.group(1))) + 1)
-            elif n:
-                total += MAX_COL * (abs(int(n.group(2)) - int(n.group(1))) + 1)
-            else:
-                raise WorkbookError(f"{name}: damaged: {what} range {part[:40]!r}")
-            continue
-        total += (span[2] - span[0] + 1) * (span[3] - span[1] + 1)
-    return total
+def _grow(sheet: SheetData, row: int, col: int) -> None:
+    """Widen the grid other readers see for ``sheet`` to reach (row, col)."""
+    if row > sheet.grid_rows:
+        sheet.grid_rows = row
+    if col > sheet.grid_cols:
+        sheet.grid_cols = col
+
+
+def _corner(part: str, what: str, name: str) -> tuple[int, int, int]:
+    """(cells covered, last row, last column) of one range (whole columns and rows too)."""
+    span = _span(part)
+    if span is not None:
+        return (span[2] - span[0] + 1) * (span[3] - span[1] + 1), span[2], span[3]
+    m = re.fullmatch(r"\$?([A-Za-z]{1,3}):\$?([A-Za-z]{1,3})", part)
+    if m:
+        c1, c2 = sorted((col_index(m.group(1)), col_index(m.group(2))))
+        return MAX_ROW * (c2 - c1 + 1), MAX_ROW, c2
+    n = re.fullmatch(r"\$?([0-9]+):\$?([0-9]+)", part)
+    if n:
+        r1, r2 = sorted((int(n.group(1)), int(n.group(2))))
+        return MAX_COL * (r2 - r1 + 1), r2, MAX_COL
+    raise WorkbookError(f"{name}: damaged: {what} range {part[:40]!r}")
 
 
 class _SheetReader:
@@ -204,9 +227,9 @@ class _SheetReader:
             self.row = int(r) if r is not None and r.isdigit() else self.row + 1
             self.col = 0
         elif tag in ("mergeCell", "hyperlink"):
-            book.count_area(tag, attrs.get("ref", ""), self.sheet.name)
+            book.count_ranges(tag, attrs.get("ref", ""), self.sheet)
         elif tag in ("dataValidation", "conditionalFormatting"):
-            book.count_area(tag, attrs.get("sqref", ""), self.sheet.name)
+            book.count_ranges(tag, attrs.get("sqref", ""), self.sheet)
 
     def _end(self, tag: str) -> None:
         if self.cell is None:
@@ -230,10 +253,16 @@ class _SheetReader:
         if pos is None:
             pos = (max(self.row, 1), self.col + 1)
         row, col = pos
+        if not (1 <= row <= MAX_ROW and 1 <= col <= MAX_COL):
+            raise WorkbookError(
+                f"{book.name}: damaged: a cell of sheet {self.sheet.name!r} lies outside the "
+                f"sheet (row {row:,}, column {col:,}; a sheet ends at XFD1048576)"
+            )
         self.row, self.col = row, col
         book.cells += 1
         if book.cells > book.limits.cells:
             raise HostileFileError(book.name, f"more than {book.limits.cells:,} cells")
+        _grow(self.sheet, row, col)
         value = self._value(attrs.get("t", "n"))
         sheet = self.sheet
         if self.f is not None:
@@ -257,7 +286,9 @@ class _SheetReader:
 
     def _value(self, t: str) -> CellValue:
         if t == "inlineStr":
-            return None if self.is_text is None else "".join(self.is_text)
+            if self.is_text is None:
+                return None
+            return self.book.check_text("".join(self.is_text), self.sheet.name)
         text = self.v_text
         if not text:
             return None
@@ -269,7 +300,7 @@ class _SheetReader:
                     f"{self.book.name}: damaged: shared string {text[:20]!r} does not exist"
                 ) from None
         if t in ("str", "d"):
-            return text
+            return self.book.check_text(text, self.sheet.name)
         if t == "b":
             return text.strip() in ("1", "true")
         if t == "e":
@@ -301,18 +332,20 @@ class _SheetReader:
             return master
         if not text and kind != "dataTable":
             return None
-        book.count_formula(text, self.sheet.name)
         cell = FormulaCell("=" + text, (row, col), kind, cached=cached)
-        if kind == "array":
-            span = _span(f.get("ref", "")) or (row, col, row, col)
-            area = (span[2] - span[0] + 1) * (span[3] - span[1] + 1)
-            if area > book.limits.cells:
-                raise HostileFileError(
-                    book.name,
-                    f"an array formula on sheet {self.sheet.name!r} fills {area:,} cells "
-                    f"(limit {book.limits.cells:,})",
-                )
-            cell.span = span
+        if kind != "array":
+            book.count_formula(text, self.sheet.name)
+            return cell
+        span = _span(f.get("ref", "")) or (row, col, row, col)
+        if span[2] > MAX_ROW or span[3] > MAX_COL:
+            raise WorkbookError(
+                f"{book.name}: damaged: an array formula of sheet {self.sheet.name!r} reaches "
+                "past the end of the sheet"
+            )
+        area = (span[2] - span[0] + 1) * (span[3] - span[1] + 1)
+        book.count_formula(text, self.sheet.name, area)  # every cell it fills is computed
+        _grow(self.sheet, span[2], span[3])
+        cell.span = span
         return cell
 
 
@@ -328,15 +361,18 @@ class _Reading:
         self.formulas = 0
         self.areas: dict[str, int] = {}
         self.counts: dict[str, int] = {}
+        self.ranges = 0
         self.strings: list[str] = []
 
-    def count_formula(self, text: str, sheet: str) -> None:
+    def count_formula(self, text: str, sheet: str, cells: int = 1) -> None:
+        """One formula filling ``cells`` cells (an array formula fills its range)."""
         lim = self.limits
-        self.formulas += 1
+        self.formulas += cells
         if self.formulas > lim.formula_cells:
+            what = f"an array formula on sheet {sheet!r} fills {cells:,} cells; " * (cells > 1)
             raise HostileFileError(
                 self.name,
-                f"more than {lim.formula_cells:,} formula cells (raise the limit with "
+                f"{what}more than {lim.formula_cells:,} formula cells (raise the limit with "
                 "--max-formulas)",
             )
         if len(text) > lim.formula_length:
@@ -353,19 +389,42 @@ class _Reading:
                 f"(limit {lim.nesting}, as in Excel)",
             )
 
-    def count_area(self, what: str, ref: str, sheet: str) -> None:
+    def check_text(self, text: str, sheet: str | None) -> str:
+        """``text`` of a cell of ``sheet`` (None: of the shared strings), refused past the
+        text-length limit (Excel's own)."""
+        if len(text) > self.limits.text_length:
+            where = f"a cell of sheet {sheet!r}" if sheet is not None else "a shared string"
+            raise HostileFileError(
+                self.name,
+                f"{where} holds {len(text):,} characters of text "
+                f"(limit {self.limits.text_length:,}, as in Excel)",
+            )
+        return text
+
+    def count_ranges(self, what: str, refs: str, sheet: SheetData) -> None:
+        """The ranges one merged cell, hyperlink, data validation or conditional format
+        lists: each counts towards ``ranges``; merged and hyperlinked cells also by the
+        cells they cover (other readers make an object for every one)."""
         lim = self.limits
-        n = self.counts[what] = self.counts.get(what, 0) + 1
+        pieces = refs.split()
+        n = self.counts[what] = self.counts.get(what, 0) + len(pieces)
+        self.ranges += len(pieces)
         if n > lim.ranges:
-            raise HostileFileError(self.name, f"more than {lim.ranges:,} {what} entries")
-        if what in ("mergeCell", "hyperlink"):  # readers expand these cell by cell
-            area = self.areas[what] = self.areas.get(what, 0) + _area_of(ref, what, self.name)
+            raise HostileFileError(
+                self.name, f"more than {lim.ranges:,} {what} ranges (on sheet {sheet.name!r})"
+            )
+        for piece in pieces:
+            cells, last_row, last_col = _corner(piece, what, self.name)
+            if what not in ("mergeCell", "hyperlink"):
+                continue
+            area = self.areas[what] = self.areas.get(what, 0) + cells
             if area > lim.cells:
                 raise HostileFileError(
                     self.name,
-                    f"{what} ranges on sheet {sheet!r} and before cover {area:,} cells "
+                    f"{what} ranges on sheet {sheet.name!r} and before cover {area:,} cells "
                     f"(limit {lim.cells:,})",
                 )
+            _grow(sheet, last_row, last_col)
 
     def read_strings(self, part: str | None) -> None:
         if part is None:
@@ -388,7 +447,7 @@ class _Reading:
             elif tag == "rPh":
                 state["si"] = state.pop("skip", None)
             elif tag == "si":
-                self.strings.append("".join(si or ()))
+                self.strings.append(self.check_text("".join(si or ()), None))
                 state["si"] = None
                 if len(self.strings) > self.limits.shared_strings:
                     raise HostileFileError(
@@ -443,5 +502,38 @@ def read_workbook(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> Wo
     report.cells, report.formula_cells, report.rows = reading.cells, reading.formulas, reading.rows
     report.shared_strings = len(reading.strings)
     return WorkbookData(
-        name, pkg, report, sheets, list(pkg.defined_names), tables, pkg.iterate
+        name, pkg, report, sheets, list(pkg.defined_names), tables, pkg.iterate, reading.ranges
     )
+
+
+def check_fallback(book: WorkbookData, limits: Limits = DEFAULT_LIMITS, why: str = "") -> None:
+    """Refuse ``book`` for the formulas package's own model when it is too large for it.
+
+    That model reads the whole file with openpyxl, makes an object for every cell
+    position from A1 to each sheet's last cell and for every merged or hyperlinked cell,
+    and runs every formula about a hundred times slower than the plan; the FALLBACK
+    limits of :mod:`udfs.xlsx.guard` keep it within the promised time and memory.
+    ``why`` says why the plan declined (shown, cut short, in the reason).
+    """
+    widest = max(book.sheets, key=lambda s: s.grid_rows * s.grid_cols)
+    found = [
+        (
+            sum(s.grid_rows * s.grid_cols for s in book.sheets),
+            limits.fallback_cells,
+            "cell positions from A1 to the last cell",
+            f"; sheet {widest.name!r} reaches row {widest.grid_rows:,}, "
+            f"column {widest.grid_cols:,}",
+        ),
+        (book.report.formula_cells, limits.fallback_formulas, "formula cells", ""),
+        (book.ranges, limits.fallback_ranges, "merged, hyperlinked, validated and "
+         "conditionally formatted ranges", ""),
+        (book.report.xml_bytes, limits.fallback_xml_bytes, "bytes of XML", ""),
+    ]
+    for count, limit, what, detail in found:
+        if count > limit:
+            because = f" (the plan declined it: {' '.join(why.split())[:160]})" if why else ""
+            raise HostileFileError(
+                book.name,
+                f"it needs the formulas package's own model{because}, which takes at most "
+                f"{limit:,} {what}; this workbook has {count:,}{detail}",
+            )

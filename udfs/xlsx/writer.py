@@ -30,7 +30,7 @@ import math
 import re
 import zipfile
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 from udfs.sheet.error_values import CellValue, SheetError
 
@@ -137,34 +137,25 @@ def _value_xml(value: CellValue, p: str, formula: bool) -> tuple[str | None, str
     return "inlineStr", f'<{p}is><{p}t xml:space="preserve">{text}</{p}t></{p}is>'
 
 
-@dataclass
-class _Row:
-    number: int
-    prefix: str
-    attrs: str
-    cells: list[tuple[int, str]] = field(default_factory=list)  # (column, xml)
-    raw: bool = True  # unchanged: keep the original text
-    text: str = ""
+def _row_cells(body: str) -> dict[int, str]:
+    """A row's cells by column (a cell without its address follows the one before)."""
+    cells: dict[int, str] = {}
+    col = 0
+    for cm in _CELL.finditer(body):
+        rm = _REF.match(_attr(cm.group("attrs"), "r") or "")
+        col = col_index(rm.group(1)) if rm else col + 1
+        cells[col] = cm.group(0)
+    return cells
 
 
-def _parse_rows(body: str) -> tuple[list[_Row], str]:
-    rows: list[_Row] = []
-    last = 0
-    for m in _ROW.finditer(body):
-        attrs = m.group("attrs")
-        r = _attr(attrs, "r")
-        number = int(r) if r and r.isdigit() else (rows[-1].number + 1 if rows else 1)
-        row = _Row(number, m.group("p"), attrs, text=m.group(0))
-        col = 0
-        for cm in _CELL.finditer(m.group("body") or ""):
-            ref = _attr(cm.group("attrs"), "r")
-            rm = _REF.match(ref or "")
-            col = col_index(rm.group(1)) if rm else col + 1
-            row.cells.append((col, cm.group(0)))
-        rows.append(row)
-        last = m.end()
-    tail = body[last:] if rows else body
-    return rows, tail
+def _row_xml(p: str, attrs: str, number: int, cells: dict[int, str],
+             edits: Mapping[int, Edit]) -> str:
+    """A row with ``edits`` (by column) made to its ``cells``, in column order."""
+    for c, e in edits.items():
+        cells[c] = _cell_xml(cells.get(c), p, f"{col_letters(c)}{number}", e)
+    inner = "".join(cells[c] for c in sorted(cells))
+    attrs = _set_attr(attrs, "spans", None)
+    return f"<{p}row{attrs}>{inner}</{p}row>" if inner else f"<{p}row{attrs}/>"
 
 
 def _cached_text(body: str, t: str | None) -> CellValue:
@@ -225,75 +216,66 @@ def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
 def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
     """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched.
 
-    Cells that exist are rewritten in one pass over the cells; cells that do not
-    exist yet (an array formula's range, a new input) are inserted row by row.
+    One pass over the rows up to the last edited one: rows without edits are
+    copied as slices of the text (never parsed into cells), and everything after
+    the last edit is one slice; rows and cells that do not exist yet (an array
+    formula's range, a new input) are created in order. Work and memory follow
+    the edited rows, not the size of the sheet.
     """
     m = _SHEETDATA.search(xml)
     if m is None:
         raise WorkbookError("damaged sheet: no sheetData")
-    by_ref = {f"{col_letters(c)}{r}": (r, c) for (r, c) in edits}
-    done: set[tuple[int, int]] = set()
-    unnamed = False
-
-    def one(cm: re.Match[str]) -> str:
-        nonlocal unnamed
-        ref = _attr(cm.group("attrs"), "r")
-        if ref is None:
-            unnamed = True
-            return cm.group(0)
-        at = by_ref.get(ref)
-        if at is None:
-            return cm.group(0)
-        done.add(at)
-        return _cell_xml(cm.group(0), cm.group("p"), ref, edits[at])
-
-    body = _CELL.sub(one, m.group("body") or "")
-    if unnamed:  # cells without their address: place every edit row by row
-        return _patch_rows(xml, edits)
-    xml = xml[: m.start("body")] + body + xml[m.end("body") :] if m.group("body") else xml
-    rest = {at: e for at, e in edits.items() if at not in done}
-    return _patch_rows(xml, rest) if rest else xml
-
-
-def _patch_rows(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
-    """``edits`` made row by row (rows and cells created where missing, kept in order)."""
-    m = _SHEETDATA.search(xml)
-    if m is None:
-        raise WorkbookError("damaged sheet: no sheetData")
     p = m.group("p")
-    rows, tail = _parse_rows(m.group("body") or "")
-    by_number = {r.number: r for r in rows}
-    todo: dict[int, dict[int, Edit]] = {}
-    for (r, c), e in edits.items():
-        todo.setdefault(r, {})[c] = e
-    for number, cols in todo.items():
-        row = by_number.get(number)
-        if row is None:
-            row = _Row(number, p, f' r="{number}"', raw=False)
-            by_number[number] = row
-            rows.append(row)
-        existing = dict(row.cells)
-        for c, e in cols.items():
-            ref = f"{col_letters(c)}{number}"
-            existing[c] = _cell_xml(existing.get(c), row.prefix, ref, e)
-        row.cells = sorted(existing.items())
-        row.raw = False
-    rows.sort(key=lambda r: r.number)
-    parts = []
-    for row in rows:
-        if row.raw:
-            parts.append(row.text)
-            continue
-        attrs = _set_attr(row.attrs, "spans", None)
-        cells = "".join(x for _, x in row.cells)
-        parts.append(
-            f"<{row.prefix}row{attrs}>{cells}</{row.prefix}row>"
-            if cells
-            else f"<{row.prefix}row{attrs}/>"
-        )
-    body = "".join(parts) + tail
-    new = f"<{p}sheetData{m.group('attrs')}>{body}</{p}sheetData>"
-    return xml[: m.start()] + new + xml[m.end() :]
+    keys = sorted(edits)
+    j = 0
+
+    def take(number: int) -> dict[int, Edit]:
+        """The edits of row ``number`` (the next row with edits)."""
+        nonlocal j
+        got: dict[int, Edit] = {}
+        while j < len(keys) and keys[j][0] == number:
+            got[keys[j][1]] = edits[keys[j]]
+            j += 1
+        return got
+
+    if m.group("body") is None:  # <sheetData/>
+        head, start, end = f"<{p}sheetData{m.group('attrs')}>", m.end(), m.end()
+        parts, close = [xml[: m.start()], head], f"</{p}sheetData>"
+    else:
+        start, end = m.start("body"), m.end("body")
+        parts, close = [xml[:start]], ""
+    copied = start  # xml[start:copied] is in parts
+    number = 0
+    for rm in _ROW.finditer(xml, start, end):
+        if j == len(keys):
+            break
+        given = _attr(rm.group("attrs"), "r")
+        number = int(given) if given and given.isdigit() else number + 1
+        if keys[j][0] > number:
+            continue  # copied later, with its neighbours, as one slice
+        parts.append(xml[copied : rm.start()])
+        while j < len(keys) and keys[j][0] < number:  # new rows before this one
+            n = keys[j][0]
+            parts.append(_row_xml(p, f' r="{n}"', n, {}, take(n)))
+        if j < len(keys) and keys[j][0] == number:
+            cells = _row_cells(rm.group("body") or "")
+            parts.append(_row_xml(rm.group("p"), rm.group("attrs"), number, cells, take(number)))
+        else:
+            parts.append(rm.group(0))
+        copied = rm.end()
+    if j < len(keys):  # rows after the sheet's last row, before any text after the rows
+        tail_at = copied
+        for rm in _ROW.finditer(xml, copied, end):
+            tail_at = rm.end()
+        parts.append(xml[copied:tail_at])
+        while j < len(keys):
+            n = keys[j][0]
+            parts.append(_row_xml(p, f' r="{n}"', n, {}, take(n)))
+        copied = tail_at
+    parts.append(xml[copied:end])
+    parts.append(close)
+    parts.append(xml[end:])
+    return "".join(parts)
 
 
 def _patch_calc_pr(xml: str) -> str:
