@@ -3,9 +3,11 @@
 Registered through the engine's documented function table, like our ``CW_``
 functions, and nowhere else:
 
-* **ROUND, ROUNDUP, ROUNDDOWN** refuse a digits argument beyond +-1000 with
-  ``#NUM!`` (the package computes ``10**digits`` and would hang on
-  ``ROUND(x, 1E+300)``); otherwise the package's own function gives the result.
+* **ROUND, ROUNDUP, ROUNDDOWN** round as Excel does: the number as Excel holds it
+  (15 significant digits) in decimal, ties away from zero, so ``ROUND(1.005, 2)``
+  is 1.01 and ``ROUNDUP(0.1*3, 1)`` is 0.3 (the package rounds the binary value:
+  1.0 and 0.4); a digits argument beyond +-1000 is ``#NUM!`` (the package computes
+  ``10**digits`` and would hang on ``ROUND(x, 1E+300)``).
 * **OFFSET** and **INDIRECT**, which the package does not provide, read the
   cells they point at through the evaluator that is computing the workbook
   (:func:`reading`); INDIRECT takes A1-style text (a cell, a range, a sheet-
@@ -16,19 +18,20 @@ functions, and nowhere else:
 >>> _ = install(get_functions())
 >>> str(get_functions()["ROUND"](2.5, 2000))
 '#NUM!'
+>>> float(get_functions()["ROUND"](1.005, 2)), float(get_functions()["ROUNDUP"](0.1 * 3, 1))
+(1.01, 0.3)
 """
 
 from __future__ import annotations
 
 import contextlib
 import contextvars
-import functools
+import decimal
 import math
 from collections.abc import Callable, Iterator, MutableMapping
 from typing import Any, Protocol
 
 import numpy as np
-from formulas.functions import math as xl_math
 from formulas.functions import wrap_ufunc
 from formulas.ranges import Ranges
 from formulas.tokens.operand import Error
@@ -73,11 +76,23 @@ def reading(resolver: Resolver) -> Iterator[None]:
         _READER.reset(token)
 
 
-def _bounded(inner: Callable[..., Any]) -> Callable[..., Any]:
+#: Enough digits for any double at any allowed number of decimals.
+_ROUNDING = decimal.Context(prec=MAX_ROUND_DIGITS + 400, Emax=999_999, Emin=-999_999)
+
+
+def _excel_round(mode: str) -> Callable[..., Any]:
+    """ROUND (``ROUND_HALF_UP``), ROUNDUP (``ROUND_UP``) or ROUNDDOWN (``ROUND_DOWN``)
+    of the decimal number Excel holds (15 significant digits); away from or toward zero."""
+
     def element(x: Any, digits: Any) -> Any:
         if not abs(float(digits)) <= MAX_ROUND_DIGITS:
             return Error.errors["#NUM!"]
-        return inner(x, digits)
+        value = float(x)
+        if not math.isfinite(value):
+            return Error.errors["#NUM!"]
+        held = decimal.Decimal(f"{value:.15g}")
+        step = decimal.Decimal(1).scaleb(-math.trunc(float(digits)))
+        return float(held.quantize(step, rounding=mode, context=_ROUNDING))
 
     return wrap_ufunc(element)
 
@@ -141,18 +156,18 @@ def indirect(ref_text: Any, a1: Any = True) -> Any:
 def install(table: MutableMapping[str, Any]) -> bool:
     """Put the deviations in the engine's function ``table``; True if anything changed."""
     wanted: dict[str, Any] = {"OFFSET": offset, "INDIRECT": indirect}
-    for name, inner in (
-        ("ROUND", xl_math.xround),
-        ("ROUNDDOWN", functools.partial(xl_math.xround, func=math.floor)),
-        ("ROUNDUP", functools.partial(xl_math.xround, func=math.ceil)),
+    for name, mode in (
+        ("ROUND", decimal.ROUND_HALF_UP),
+        ("ROUNDDOWN", decimal.ROUND_DOWN),
+        ("ROUNDUP", decimal.ROUND_UP),
     ):
         current = table.get(name)
-        if getattr(current, "cellwright_bounded", False):
+        if getattr(current, "cellwright_rounding", False):
             wanted[name] = current
             continue
-        bounded = _bounded(inner)
-        bounded.cellwright_bounded = True  # type: ignore[attr-defined]
-        wanted[name] = bounded
+        rounding = _excel_round(mode)
+        rounding.cellwright_rounding = True  # type: ignore[attr-defined]
+        wanted[name] = rounding
     changed = False
     for name, func in wanted.items():
         if table.get(name) is not func:
