@@ -14,6 +14,7 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from named_outputs import out_values
 
 from udfs.app.calc import calculate_file
 from udfs.app.sweep import run_sweep
@@ -29,13 +30,7 @@ def _saved_demo(tmp_path: Path) -> Path:
 
 
 def _outputs(path: Path) -> dict[str, object]:
-    wb = openpyxl.load_workbook(path, data_only=True)
-    got: dict[str, object] = {}
-    for name, dn in wb.defined_names.items():
-        if name.startswith("out_"):
-            for title, coord in dn.destinations:
-                got[name] = wb[title][coord.replace("$", "")].value
-    return got
+    return out_values(openpyxl.load_workbook(path, data_only=True))
 
 
 def _fresh(values: dict[str, object]) -> dict[str, object]:

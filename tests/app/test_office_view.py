@@ -15,6 +15,7 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from named_outputs import out_values
 
 from udfs.app.calc import calculate_file
 
@@ -37,15 +38,6 @@ def _as_office_shows(path: Path, work: Path) -> openpyxl.Workbook:
     return openpyxl.load_workbook(out / path.name, data_only=True)
 
 
-def _out_values(wb: openpyxl.Workbook) -> dict[str, object]:
-    got: dict[str, object] = {}
-    for name, dn in wb.defined_names.items():
-        if name.startswith("out_"):
-            for title, coord in dn.destinations:
-                got[name] = wb[title][coord.replace("$", "")].value
-    return got
-
-
 def _assert_numbers(values: dict[str, object], where: str) -> None:
     assert values, f"{where}: no out_ names"
     numbers = 0
@@ -58,7 +50,7 @@ def _assert_numbers(values: dict[str, object], where: str) -> None:
 
 @pytest.mark.parametrize("path", TEMPLATES, ids=lambda p: p.name)
 def test_every_committed_template_shows_numbers(path, tmp_path):
-    _assert_numbers(_out_values(_as_office_shows(path, tmp_path)), path.name)
+    _assert_numbers(out_values(_as_office_shows(path, tmp_path)), path.name)
 
 
 @pytest.mark.parametrize(
@@ -70,4 +62,4 @@ def test_every_calc_output_shows_numbers(tmp_path, overrides, mode):
     src = ROOT / "workbook_templates" / "cell_sizing.xlsx"
     out = tmp_path / "out.xlsx"
     calculate_file(src, out, overrides, mode=mode)
-    _assert_numbers(_out_values(_as_office_shows(out, tmp_path)), f"{mode} {overrides}")
+    _assert_numbers(out_values(_as_office_shows(out, tmp_path)), f"{mode} {overrides}")

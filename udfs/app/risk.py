@@ -19,7 +19,6 @@ this process and on a Dask cluster (``workers``).
 
 from __future__ import annotations
 
-import math
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -36,6 +35,7 @@ from udfs.xlsx.file_errors import ReferenceSyntaxError
 
 from .safe_text import check_argument
 from .scenario import cost_model_for, demo_values, load_book, read_input_values
+from .sweep import finite_number
 from .tables import SweepTable
 
 __all__ = [
@@ -72,15 +72,7 @@ def parse_range(text: str) -> tuple[str, tuple[float, float, float, str]]:
     if dist not in DISTRIBUTIONS:
         raise ReferenceSyntaxError(f"--range {name}: distribution {parts[3]!r} is not one of "
                                    f"{', '.join(DISTRIBUTIONS)}")
-    numbers = []
-    for p in parts[:3]:
-        try:
-            x = float(p)
-        except ValueError:
-            raise ReferenceSyntaxError(f"--range {name}: {p!r} is not a number") from None
-        if not math.isfinite(x):
-            raise ReferenceSyntaxError(f"--range {name}: {p!r} is not a finite number")
-        numbers.append(x)
+    numbers = [finite_number(p, f"--range {name}") for p in parts[:3]]
     return name, (numbers[0], numbers[1], numbers[2], dist)
 
 

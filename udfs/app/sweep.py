@@ -73,6 +73,7 @@ __all__ = [
     "axes",
     "core_fields",
     "failures",
+    "finite_number",
     "grid_values",
     "parse_vary",
     "run_rows",
@@ -143,7 +144,8 @@ class Vary:
     values: tuple[Value, ...]
 
 
-def _number(text: str, what: str) -> float:
+def finite_number(text: str, what: str) -> float:
+    """``text`` as a finite number, else a one-line reason starting with ``what``."""
     try:
         x = float(text)
     except ValueError:
@@ -198,7 +200,7 @@ def parse_vary(text: str) -> Vary:
     if len(pieces) == 3 or (len(pieces) == 2 and all(_is_number(p) for p in pieces)):
         if len(pieces) != 3:
             raise ReferenceSyntaxError(f"{what}: a range is start:stop:step (got {spec!r})")
-        start, stop, step = (_number(p, what) for p in pieces)
+        start, stop, step = (finite_number(p, what) for p in pieces)
         return Vary(target, grid_values(start, stop, step, what))
     values = tuple(_item(p.strip(), what) for p in spec.split(",") if p.strip())
     if not values:

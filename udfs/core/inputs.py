@@ -32,9 +32,9 @@ from typing import Any
 
 import numpy as np
 
-from .errors import CellwrightError, InputError, NotFoundError
+from .errors import InputError, NotFoundError
 from .names import closest
-from .validate import Domain, InputDomain, is_blank
+from .validate import Domain, InputDomain, Reasons, is_blank
 
 __all__ = ["Choice", "Input", "InputTable", "read_typed"]
 
@@ -132,7 +132,7 @@ def read_typed(text: str, number: bool) -> Any:
     return text
 
 
-class InputTable:
+class InputTable(Reasons):
     """The inputs of one model, in the order a user works through them."""
 
     def __init__(self, key: str, title: str, inputs: Iterable[Input]) -> None:
@@ -218,14 +218,6 @@ class InputTable:
         if key == inp.name:
             return inp.check(value)
         return inp.check(value, argument=key, field=key)
-
-    def reason(self, key: str, value: Any) -> str | None:
-        """None if ``value`` is allowed for ``key``, else the one-line reason."""
-        try:
-            self.check(key, value)
-        except CellwrightError as exc:
-            return str(exc)
-        return None
 
     def check_typed(self, key: str, text: str) -> Any:
         """:meth:`check` of a value typed as text (``--set key=TEXT``): numbers

@@ -53,6 +53,7 @@ __all__ = [
     "InputDomain",
     "Names",
     "Options",
+    "Reasons",
     "check",
     "integer_or_positive",
     "is_blank",
@@ -74,8 +75,31 @@ def is_blank(value: object) -> bool:
     return value is None or (isinstance(value, str) and not value.strip())
 
 
+class Reasons:
+    """``reason(name, value)`` for anything with ``check(name, value)``: None if the
+    value is allowed, else the one-line reason the check gives."""
+
+    def check(self, name: str, value: Any) -> Any:
+        raise NotImplementedError
+
+    def reason(self, name: str, value: Any) -> str | None:
+        """None if ``value`` is allowed, else the one-line reason.
+
+        >>> POSITIVE.reason("in_np_ratio", -1.0)
+        'in_np_ratio must be > 0 (got -1)'
+        >>> POSITIVE.reason("in_np_ratio", 1.1) is None
+        True
+        """
+        try:
+            self.check(name, value)
+        except CellwrightError as exc:
+            return str(exc)
+        return None
+
+
+
 @dataclass(frozen=True)
-class Domain:
+class Domain(Reasons):
     """A set of allowed finite numbers: bounds with open or closed ends, whole
     numbers only (``integer``), zero excluded (``nonzero``), and a ``note``
     appended to the description (a unit or a reminder)."""
@@ -152,20 +176,6 @@ class Domain:
         naming ``name``; see :func:`check`."""
         return check(name, value, self)
 
-    def reason(self, name: str, value: Any) -> str | None:
-        """None if ``value`` is allowed, else the one-line reason.
-
-        >>> POSITIVE.reason("in_np_ratio", -1.0)
-        'in_np_ratio must be > 0 (got -1)'
-        >>> POSITIVE.reason("in_np_ratio", 1.1) is None
-        True
-        """
-        try:
-            self.check(name, value)
-        except CellwrightError as exc:
-            return str(exc)
-        return None
-
 
 ANY = Domain()
 POSITIVE = Domain(lower=0, lower_open=True)
@@ -223,7 +233,7 @@ def check(name: str, value: ArrayLike, domain: Domain) -> FloatArray:
 
 
 @dataclass(frozen=True)
-class Names:
+class Names(Reasons):
     """Names of the catalogue: materials of one of ``roles`` (a role such as
     ``cathode`` or a category such as ``foil``), or couples (``kind='couple'``).
     A name or an alias in any case is accepted and resolved to the catalogue's
@@ -282,16 +292,9 @@ class Names:
             )
         return m.name
 
-    def reason(self, name: str, value: Any) -> str | None:
-        try:
-            self.check(name, value)
-        except CellwrightError as exc:
-            return str(exc)
-        return None
-
 
 @dataclass(frozen=True)
-class Options:
+class Options(Reasons):
     """One of a few fixed words, matched without regard to case or spaces.
 
     >>> Options(("capacity", "energy")).check("in_target_basis", " Energy")
@@ -317,16 +320,9 @@ class Options:
                 return c
         raise InputError(name, value, self.allowed)
 
-    def reason(self, name: str, value: Any) -> str | None:
-        try:
-            self.check(name, value)
-        except CellwrightError as exc:
-            return str(exc)
-        return None
-
 
 @dataclass(frozen=True)
-class FreeText:
+class FreeText(Reasons):
     """Any text (a title, a species name checked later by the chemistry)."""
 
     @property
@@ -341,13 +337,6 @@ class FreeText:
         if not isinstance(value, str):
             raise InputError(name, value, self.expected)
         return value.strip()
-
-    def reason(self, name: str, value: Any) -> str | None:
-        try:
-            self.check(name, value)
-        except CellwrightError as exc:
-            return str(exc)
-        return None
 
 
 #: What an input may declare as its domain.

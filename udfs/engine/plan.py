@@ -389,17 +389,14 @@ class Plan:
         return [by[k] for k in sorted(by, key=lambda k: k[0])]
 
     def downstream(self, start: Iterable[int]) -> set[int]:
-        seen: set[int] = set()
-        stack = list(start)
-        while stack:
-            i = stack.pop()
-            if i in seen:
-                continue
-            seen.add(i)
-            stack.extend(self.units[i].readers)
-        return seen
+        """``start`` and every unit that reads them, directly or not."""
+        return self._reach(start, readers=True)
 
     def upstream(self, start: Iterable[int]) -> set[int]:
+        """``start`` and every unit they read, directly or not."""
+        return self._reach(start, readers=False)
+
+    def _reach(self, start: Iterable[int], readers: bool) -> set[int]:
         seen: set[int] = set()
         stack = list(start)
         while stack:
@@ -407,7 +404,8 @@ class Plan:
             if i in seen:
                 continue
             seen.add(i)
-            stack.extend(self.units[i].deps)
+            u = self.units[i]
+            stack.extend(u.readers if readers else u.deps)
         return seen
 
 

@@ -84,6 +84,16 @@ def CW_MATERIAL_NAME(material: str, role: str) -> str:
     return Names((kind,)).check("material", material)
 
 
+def _varied_args(examples: str) -> list[Text | Num]:
+    """The two optional (input, values) pairs of the design functions."""
+    return [
+        Text("input_1", f"input varied, e.g. {examples}", default=""),
+        Num("values_1", "its values (a row or a column); needs input_1", ANY, default=0.0),
+        Text("input_2", "second input varied", default=""),
+        Num("values_2", "its values; needs input_2", ANY, default=0.0),
+    ]
+
+
 @sheet_function(
     "CW_CELL_DESIGN",
     "One number of the sized cell (output, e.g. cost_per_kWh_USD) from the cell-sizing "
@@ -91,10 +101,7 @@ def CW_MATERIAL_NAME(material: str, role: str) -> str:
     [
         Text("output", 'e.g. "cost_per_kWh_USD", "specific_energy_Wh_kg", "capacity_Ah"'),
         Table("inputs", "two columns: input names (in_...) and their values"),
-        Text("input_1", 'input varied, e.g. "in_np_ratio" or "cathode_loading_mg_cm2"', default=""),
-        Num("values_1", "its values (a row or a column); needs input_1", ANY, default=0.0),
-        Text("input_2", "second input varied", default=""),
-        Num("values_2", "its values; needs input_2", ANY, default=0.0),
+        *_varied_args('"in_np_ratio" or "cathode_loading_mg_cm2"'),
     ],
     section=Section.SIZING,
     returns="the output's unit",
@@ -300,10 +307,7 @@ def CW_PACK_SERIES(pack_V_min: Any, pack_V_max: Any, cell_V_min: Any, cell_V_max
     [
         Text("output", 'e.g. "series", "pack_energy_kWh", "pack_cost_per_kWh_USD"'),
         Table("inputs", "two columns: input names (in_..., in_pack_...) and their values"),
-        Text("input_1", 'input varied, e.g. "in_pack_energy" or "in_np_ratio"', default=""),
-        Num("values_1", "its values (a row or a column); needs input_1", ANY, default=0.0),
-        Text("input_2", "second input varied", default=""),
-        Num("values_2", "its values; needs input_2", ANY, default=0.0),
+        *_varied_args('"in_pack_energy" or "in_np_ratio"'),
     ],
     section=Section.SIZING,
     returns="the output's unit",
