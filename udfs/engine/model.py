@@ -37,6 +37,7 @@ from formulas.functions import get_functions
 
 from udfs.sheet import registry
 from udfs.sheet.error_values import CellValue, SheetError
+from udfs.xlsx.collector import collector_paused
 from udfs.xlsx.file_errors import WorkbookError
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
 from udfs.xlsx.reader import WorkbookData, check_fallback, read_workbook
@@ -149,6 +150,7 @@ def _ours_elementwise(name: str) -> bool:
 class WorkbookModel:
     """One workbook, planned for evaluation; see :func:`load_model`."""
 
+    @collector_paused()
     def __init__(self, data: bytes, name: str, limits: Limits = DEFAULT_LIMITS):
         t0 = time.perf_counter()
         ensure_registered()
@@ -415,6 +417,7 @@ class WorkbookModel:
                 self._extended.popitem(last=False)
         return found
 
+    @collector_paused()
     def evaluate(self, overrides: Mapping[CellRef | str, Override] | None = None) -> Evaluation:
         """Evaluate with ``overrides`` (cell or defined name -> value)."""
         t0 = time.perf_counter()

@@ -25,8 +25,6 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-from formulas.tokens.operand import Number
-
 from udfs.xlsx.formula_text import Area, Token, TokenizeError, tokenize
 from udfs.xlsx.package import DefinedName
 from udfs.xlsx.reader import SheetData, Table
@@ -94,6 +92,18 @@ _REL = re.compile(
     r"\"(?:[^\"]|\"\")*\"|'(?:[^']|'')*'"  # strings and quoted sheet names: kept as they are
     r"|(?<![\w.$\]])(\$?)([A-Za-z]{1,3})(\$?)([0-9]{1,7})(?![\w.(!\[])"
 )
+
+
+def number_literal(text: str) -> int | float:
+    """The value of a number as written in a formula: a whole number of up to 15 digits
+    stays an integer, anything else is the nearest double (as Excel reads it).
+
+    >>> number_literal("0123"), number_literal("1E5"), number_literal(".5")
+    (123, 100000.0, 0.5)
+    """
+    if text.isdigit() and len(text.lstrip("0")) <= 15:
+        return int(text)
+    return float(text)
 
 
 def relative_text(text: str, row: int, col: int) -> str:
@@ -211,7 +221,7 @@ class Context:
             if kind == "ref":
                 piece = self._ref(tok, b, sheet, base)
             elif kind == "number":
-                piece = b.const(Number(tok.text).compile())
+                piece = b.const(number_literal(tok.text))
             elif kind == "string":
                 piece = b.const(tok.text[1:-1].replace('""', '"'))
             elif kind == "func":
@@ -295,7 +305,7 @@ class Context:
         if len(inner) == 1 and inner[0].kind in _NAME_CONSTANT:
             only = inner[0]
             if only.kind == "number":
-                return b.const(Number(only.text).compile())
+                return b.const(number_literal(only.text))
             if only.kind == "string":
                 return b.const(only.text[1:-1].replace('""', '"'))
             return only.text

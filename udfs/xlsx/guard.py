@@ -24,7 +24,8 @@ written by ``cellwright calc`` within PROMISED_SECONDS (20 s) and
 PROMISED_PEAK_MIB (768 MiB of peak resident memory, interpreter and libraries
 included) on a 2-core machine; past any of them it is refused with a one-line
 reason before the work that grows with it starts (tests/xlsx/test_hostile.py
-runs both kinds of file through the command and measures them).
+runs both kinds of file through the command and measures them; time as the
+command's processor time, which other work on a shared machine does not stretch).
 ``--max-formulas`` raises the formula limit (and, in proportion, the cells,
 rows, formula text and cell reads: :func:`limits_for`), and with it the promise.
 

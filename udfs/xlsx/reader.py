@@ -34,9 +34,11 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 from udfs.sheet.error_values import CellValue, SheetError
 
+from .collector import collector_paused
 from .file_errors import HostileFileError, WorkbookError
 from .formula_text import TokenizeError, shift_formula
 from .guard import DEFAULT_LIMITS, Limits, PackageReport, check_package, formula_nesting
@@ -53,6 +55,15 @@ __all__ = [
 ]
 
 _COORD = re.compile(r"^\$?([A-Za-z]{1,3})\$?([0-9]{1,7})$")
+_CELL_PATTERN = r"\$?([A-Za-z]{1,3})\$?([0-9]{1,7})"
+#: A cell or a rectangle of a range list ("B4", "$A$1:B2"; no whitespace in it).
+_AREA = re.compile(f"{_CELL_PATTERN}(?::{_CELL_PATTERN})?")
+_COLUMNS = re.compile(r"\$?([A-Za-z]{1,3}):\$?([A-Za-z]{1,3})")  # whole columns "C:D"
+_ROWS = re.compile(r"\$?([0-9]+):\$?([0-9]+)")  # whole rows "3:5"
+#: Any range of a range list: a cell, a rectangle, whole columns or whole rows.
+_RANGE = re.compile(f"{_AREA.pattern}|{_COLUMNS.pattern}|{_ROWS.pattern}")
+_RANGED = {"mergeCell": "ref", "hyperlink": "ref", "dataValidation": "sqref",
+           "conditionalFormatting": "sqref"}  # elements listing ranges: their attribute
 _ERROR_CODES = {
     "#NULL!", "#DIV/0!", "#VALUE!", "#REF!", "#NAME?", "#NUM!", "#N/A", "#SPILL!", "#CALC!",
     "#GETTING_DATA", "#FIELD!", "#BLOCKED!", "#CONNECT!", "#BUSY!", "#UNKNOWN!", "#PYTHON!",
@@ -139,9 +150,21 @@ class WorkbookData:
         return next((s for s in self.sheets if s.key == key), None)
 
 
+#: ``col_index`` remembered: a sheet names the same few columns again and again.
+_column = lru_cache(maxsize=4096)(col_index)
+
+
 def _coord(ref: str | None) -> tuple[int, int] | None:
+    """(row, col) of an A1-style coordinate, None if ``ref`` is not one.
+
+    >>> _coord("$B$4"), _coord("ab12"), _coord("B"), _coord(None)
+    ((4, 2), (12, 28), None, None)
+    """
     m = _COORD.match(ref or "")
-    return (int(m.group(2)), col_index(m.group(1))) if m else None
+    if m is None:
+        return None
+    letters, digits = m.groups()
+    return int(digits), _column(letters)
 
 
 def _span(ref: str) -> tuple[int, int, int, int] | None:
@@ -150,6 +173,14 @@ def _span(ref: str) -> tuple[int, int, int, int] | None:
     if a is None or b is None or len(parts) > 2:
         return None
     return (min(a[0], b[0]), min(a[1], b[1]), max(a[0], b[0]), max(a[1], b[1]))
+
+
+def _extend(sheet: SheetData, row: int, col: int) -> None:
+    """Widen ``sheet``'s used range (max_row, max_col) to reach (row, col)."""
+    if row > sheet.max_row:
+        sheet.max_row = row
+    if col > sheet.max_col:
+        sheet.max_col = col
 
 
 def _grow(sheet: SheetData, row: int, col: int) -> None:
@@ -161,15 +192,25 @@ def _grow(sheet: SheetData, row: int, col: int) -> None:
 
 
 def _corner(part: str, what: str, name: str) -> tuple[int, int, int]:
-    """(cells covered, last row, last column) of one range (whole columns and rows too)."""
-    span = _span(part)
-    if span is not None:
-        return (span[2] - span[0] + 1) * (span[3] - span[1] + 1), span[2], span[3]
-    m = re.fullmatch(r"\$?([A-Za-z]{1,3}):\$?([A-Za-z]{1,3})", part)
+    """(cells covered, last row, last column) of one range of a range list (``part`` holds
+    no whitespace; whole columns and rows too).
+
+    >>> _corner("$C$4:B2", "mergeCell", "x"), _corner("B:C", "mergeCell", "x")
+    ((6, 4, 3), (2097152, 1048576, 3))
+    """
+    m = _AREA.fullmatch(part)
+    if m is not None:
+        letters1, digits1, letters2, digits2 = m.groups()
+        r1, c1 = int(digits1), _column(letters1)
+        r2, c2 = (int(digits2), _column(letters2)) if digits2 is not None else (r1, c1)
+        r1, r2 = (r1, r2) if r1 <= r2 else (r2, r1)
+        c1, c2 = (c1, c2) if c1 <= c2 else (c2, c1)
+        return (r2 - r1 + 1) * (c2 - c1 + 1), r2, c2
+    m = _COLUMNS.fullmatch(part)
     if m:
         c1, c2 = sorted((col_index(m.group(1)), col_index(m.group(2))))
         return MAX_ROW * (c2 - c1 + 1), MAX_ROW, c2
-    n = re.fullmatch(r"\$?([0-9]+):\$?([0-9]+)", part)
+    n = _ROWS.fullmatch(part)
     if n:
         r1, r2 = sorted((int(n.group(1)), int(n.group(2))))
         return MAX_COL * (r2 - r1 + 1), r2, MAX_COL
@@ -186,6 +227,9 @@ class _SheetReader:
         self.row = 0
         self.col = 0
         self.rows = 0
+        self.row_digits = ""  # ``r`` of the open row when it is 1 to 7 digits 0-9
+        self.row_number = 0  # and the open row's number: see _place()
+        self.columns: dict[str, int] = {}  # column letters met in cells' ``r``: numbers
         self.cell: dict[str, str] | None = None  # attributes of the open <c>
         self.f: dict[str, str] | None = None  # attributes of its <f>
         self.f_text: str | None = None
@@ -194,15 +238,18 @@ class _SheetReader:
         self.buf: list[str] | None = None  # where character data goes
 
     def read(self) -> None:
-        self.book.pkg.scan(self.sheet.part, self._start, self._end, self._text)
+        self.book.pkg.scan(
+            self.sheet.part, self._start, self._end, self._text, local_names=False
+        )
         self.book.rows += self.rows
 
     def _text(self, data: str) -> None:
         if self.buf is not None:
             self.buf.append(data)
 
-    def _start(self, tag: str, attrs: dict[str, str]) -> None:
-        book = self.book
+    def _start(self, name: str, attrs: dict[str, str]) -> None:
+        """An element starts; ``name`` as written ("x:c" is "c")."""
+        tag = name.rpartition(":")[2] if ":" in name else name
         if tag == "c":
             self.cell = attrs
             self.f = self.f_text = self.v_text = self.is_text = None
@@ -218,22 +265,24 @@ class _SheetReader:
             elif tag == "rPh":  # phonetic text is not part of the value
                 self.is_text = None
         elif tag == "row":
+            book = self.book
             self.rows += 1
             if self.rows > book.limits.rows:
                 raise HostileFileError(
                     book.name, f"sheet {self.sheet.name!r} has more than {book.limits.rows:,} rows"
                 )
-            r = attrs.get("r")
-            self.row = int(r) if r is not None and r.isdigit() else self.row + 1
+            r = attrs.get("r", "")
+            self.row = self.row_number = int(r) if r.isascii() and r.isdigit() else self.row + 1
+            self.row_digits = r if len(r) <= 7 and r.isascii() and r.isdigit() else ""
             self.col = 0
-        elif tag in ("mergeCell", "hyperlink"):
-            book.count_ranges(tag, attrs.get("ref", ""), self.sheet)
-        elif tag in ("dataValidation", "conditionalFormatting"):
-            book.count_ranges(tag, attrs.get("sqref", ""), self.sheet)
+        elif tag in _RANGED:
+            self.book.count_ranges(tag, attrs.get(_RANGED[tag], ""), self.sheet)
 
-    def _end(self, tag: str) -> None:
+    def _end(self, name: str) -> None:
+        """An element ends; ``name`` as written."""
         if self.cell is None:
             return
+        tag = name.rpartition(":")[2] if ":" in name else name
         if tag == "c":
             self._cell(self.cell)
             self.cell = None
@@ -248,41 +297,67 @@ class _SheetReader:
             self.buf = None
 
     def _cell(self, attrs: dict[str, str]) -> None:
-        book = self.book
-        pos = _coord(attrs.get("r"))
-        if pos is None:
-            pos = (max(self.row, 1), self.col + 1)
-        row, col = pos
+        """The open cell ends: place it (inside the sheet), count it, keep what it holds."""
+        book, sheet = self.book, self.sheet
+        row, col = self._place(attrs.get("r"))
         if not (1 <= row <= MAX_ROW and 1 <= col <= MAX_COL):
             raise WorkbookError(
-                f"{book.name}: damaged: a cell of sheet {self.sheet.name!r} lies outside the "
+                f"{book.name}: damaged: a cell of sheet {sheet.name!r} lies outside the "
                 f"sheet (row {row:,}, column {col:,}; a sheet ends at XFD1048576)"
             )
         self.row, self.col = row, col
         book.cells += 1
         if book.cells > book.limits.cells:
             raise HostileFileError(book.name, f"more than {book.limits.cells:,} cells")
-        _grow(self.sheet, row, col)
-        value = self._value(attrs.get("t", "n"))
-        sheet = self.sheet
-        if self.f is not None:
-            formula = self._formula(self.f, self.f_text or "", row, col, value)
-            if formula is not None:
-                sheet.formulas[(row, col)] = formula
-                self._extend(row, col)
-                if formula.span is not None:
-                    self._extend(formula.span[2], formula.span[3])
-                return
-        if value is not None:
+        if row > sheet.grid_rows:  # _grow(sheet, row, col), inline: once per cell
+            sheet.grid_rows = row
+        if col > sheet.grid_cols:
+            sheet.grid_cols = col
+        t = attrs.get("t", "n")
+        value = self._number() if t == "n" else self._value(t)
+        f = self.f
+        formula = None if f is None else self._formula(f, self.f_text or "", row, col, value)
+        if formula is not None:
+            sheet.formulas[(row, col)] = formula
+            if formula.span is not None:
+                _extend(sheet, formula.span[2], formula.span[3])
+        elif value is not None:
             sheet.values[(row, col)] = value
-            self._extend(row, col)
+        else:
+            return
+        if row > sheet.max_row:  # _extend(sheet, row, col), inline: once per cell
+            sheet.max_row = row
+        if col > sheet.max_col:
+            sheet.max_col = col
 
-    def _extend(self, row: int, col: int) -> None:
-        s = self.sheet
-        if row > s.max_row:
-            s.max_row = row
-        if col > s.max_col:
-            s.max_col = col
+    def _place(self, ref: str | None) -> tuple[int, int]:
+        """(row, col) of a cell's ``r`` as :func:`_coord` reads it; without one, the cell
+        after the one before. Most cells are written as column letters met before and the
+        open row's own ``r`` ("B12" in row "12"): those are found by looking their letters
+        up, with no pattern to match."""
+        digits = self.row_digits
+        if ref is not None and digits and ref.endswith(digits):
+            col = self.columns.get(ref[: -len(digits)])
+            if col is not None:
+                return self.row_number, col
+        m = _COORD.match(ref or "")
+        if m is None:
+            return max(self.row, 1), self.col + 1
+        letters, row = m.groups()
+        col = self.columns.get(letters)
+        if col is None:
+            col = self.columns[letters] = _column(letters)
+        return int(row), col
+
+    def _number(self) -> CellValue:
+        """The value of a number cell (``t="n"``, the default)."""
+        text = self.v_text
+        if not text:
+            return None
+        try:
+            return float(text)
+        except ValueError:
+            raise WorkbookError(f"{self.book.name}: damaged: number {text[:20]!r}") from None
 
     def _value(self, t: str) -> CellValue:
         if t == "inlineStr":
@@ -294,6 +369,8 @@ class _SheetReader:
             return None
         if t == "s":
             try:
+                if not text.strip().isdecimal() or not text.isascii():  # "-1" is not an index
+                    raise ValueError(text)
                 return self.book.strings[int(text)]
             except (ValueError, IndexError):
                 raise WorkbookError(
@@ -306,10 +383,7 @@ class _SheetReader:
         if t == "e":
             code = text.strip()
             return SheetError(code if code in _ERROR_CODES else "#VALUE!")
-        try:
-            return float(text)
-        except ValueError:
-            raise WorkbookError(f"{self.book.name}: damaged: number {text[:20]!r}") from None
+        return self._number()
 
     def _formula(
         self, f: dict[str, str], text: str, row: int, col: int, cached: CellValue
@@ -413,10 +487,13 @@ class _Reading:
             raise HostileFileError(
                 self.name, f"more than {lim.ranges:,} {what} ranges (on sheet {sheet.name!r})"
             )
+        if what not in ("mergeCell", "hyperlink"):
+            for piece in pieces:  # only checked
+                if _RANGE.fullmatch(piece) is None:
+                    _corner(piece, what, self.name)  # raises, saying which
+            return
         for piece in pieces:
             cells, last_row, last_col = _corner(piece, what, self.name)
-            if what not in ("mergeCell", "hyperlink"):
-                continue
             area = self.areas[what] = self.areas.get(what, 0) + cells
             if area > lim.cells:
                 raise HostileFileError(
@@ -487,6 +564,11 @@ def read_workbook(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> Wo
 
     Raises HostileFileError past a limit and WorkbookError for a damaged file.
     """
+    with collector_paused():  # many objects, no cycles: see udfs.xlsx.collector
+        return _read(data, name, limits)
+
+
+def _read(data: bytes, name: str, limits: Limits) -> WorkbookData:
     report = check_package(data, name, limits)
     pkg = report.package
     reading = _Reading(pkg, limits)

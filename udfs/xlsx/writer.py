@@ -25,6 +25,7 @@ tables, data-validation extensions, VBA and every other part survive):
 
 from __future__ import annotations
 
+import functools
 import io
 import math
 import re
@@ -38,7 +39,16 @@ from .file_errors import WorkbookError
 from .package import Package, rels_path
 from .refs import CellRef, col_index, col_letters
 
-__all__ = ["CALC_ID", "KEEP", "Edit", "escape", "patch_sheet", "write_live", "write_values"]
+__all__ = [
+    "CALC_ID",
+    "KEEP",
+    "Edit",
+    "SheetEdits",
+    "escape",
+    "patch_sheet",
+    "write_live",
+    "write_values",
+]
 
 #: The calculation-engine id current Excel versions write (from memory; an older id
 #: makes Excel recalculate every formula on open, a newer one is the same as current).
@@ -46,18 +56,24 @@ CALC_ID = "191029"
 KEEP = object()  # Edit.value: leave the cell's value as it is
 
 _ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff]")
-_ATTRS = r"(?P<attrs>(?:[^>\"'/]|\"[^\"]*\"|'[^']*'|/(?!>))*)"
-_SHEETDATA = re.compile(
-    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)sheetData\b"
-    + _ATTRS
-    + r"(?:/>|>(?P<body>.*?)</(?P=p)sheetData>)",
+_ATTR_TEXT = r"(?:[^>\"'/]|\"[^\"]*\"|'[^']*'|/(?!>))*"
+_ATTRS = r"(?P<attrs>" + _ATTR_TEXT + ")"
+_SHEETDATA = re.compile(  # the start tag (the end tag is found by str.find: much faster)
+    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)sheetData\b" + _ATTRS + r"(?P<end>/?>)", re.S
+)
+# rows and cells: the usual first attribute r="..." is also read by the pattern
+# (``number``, ``letters``; None when written otherwise: then read from ``attrs``)
+_ROW = re.compile(
+    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)row\b"
+    + r'(?P<attrs>(?: r="(?P<number>[0-9]+)")?' + _ATTR_TEXT + ")"
+    + r"(?:/>|>(?P<body>.*?)</(?P=p)row>)",
     re.S,
 )
-_ROW = re.compile(
-    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)row\b" + _ATTRS + r"(?:/>|>(?P<body>.*?)</(?P=p)row>)", re.S
-)
 _CELL = re.compile(
-    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)c\b" + _ATTRS + r"(?:/>|>(?P<body>.*?)</(?P=p)c>)", re.S
+    r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)c\b"
+    + r'(?P<attrs>(?: r="(?P<letters>[A-Z]{1,3})[0-9]+")?' + _ATTR_TEXT + ")"
+    + r"(?:/>|>(?P<body>.*?)</(?P=p)c>)",
+    re.S,
 )
 _FORMULA = re.compile(
     r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)f\b" + _ATTRS + r"(?:/>|>.*?</(?P=p)f>)", re.S
@@ -79,6 +95,30 @@ class Edit:
     array: str | None = None
 
 
+class SheetEdits(dict[str, dict[tuple[int, int], Edit]]):
+    """Edits by sheet name, then by (row, column): the form the sheets are patched in.
+
+    Building it directly saves making a :class:`CellRef` per cell (on a sheet of
+    200,000 formulas that is a noticeable part of writing the result).
+
+    >>> edits = SheetEdits.of({CellRef("S", 2, 1): Edit(1.5)})
+    >>> edits.cells("S")[(2, 1)].value, edits.cells("T")
+    (1.5, {})
+    """
+
+    def cells(self, sheet: str) -> dict[tuple[int, int], Edit]:
+        """The edits of ``sheet`` by (row, column), added when it has none yet."""
+        return self.setdefault(sheet, {})
+
+    @classmethod
+    def of(cls, edits: Mapping[CellRef, Edit]) -> SheetEdits:
+        """``edits`` by cell reference, grouped by sheet."""
+        out = cls()
+        for ref, e in edits.items():
+            out.cells(ref.sheet)[(ref.row, ref.col)] = e
+        return out
+
+
 def escape(text: str) -> str:
     """Text for an XML element: markup escaped, illegal characters as _xHHHH_."""
     text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
@@ -91,6 +131,9 @@ _ATTR_DROP: dict[str, re.Pattern[str]] = {}
 
 
 def _attr(attrs: str, name: str) -> str | None:
+    """The value of attribute ``name`` in an element's attribute text (None if absent)."""
+    if name not in attrs:  # cannot be there: no regex needed
+        return None
     find = _ATTR_FIND.get(name)
     if find is None:
         find = re.compile(r"(?:^|\s)" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')")
@@ -99,12 +142,37 @@ def _attr(attrs: str, name: str) -> str | None:
     return m.group(1)[1:-1] if m else None
 
 
+def _row_number(rm: re.Match[str], before: int) -> int:
+    """The number of the row matched by ``rm`` (a row without one follows row ``before``)."""
+    given = rm.group("number")  # the usual spelling, read by the pattern
+    if given is None:
+        given = _attr(rm.group("attrs"), "r")
+    return int(given) if given and given.isascii() and given.isdigit() else before + 1
+
+
+@functools.cache
+def _column(letters: str) -> int:
+    """:func:`col_index` of a cell address's letters, remembered (at most 18,278)."""
+    return col_index(letters)
+
+
+def _cell_column(cm: re.Match[str], before: int) -> int:
+    """The column of the cell matched by ``cm`` (a cell without its address follows
+    the one in column ``before``)."""
+    letters = cm.group("letters")  # the usual spelling, read by the pattern
+    if letters is None:
+        rm = _REF.match(_attr(cm.group("attrs"), "r") or "")
+        return col_index(rm.group(1)) if rm else before + 1
+    return _column(letters)
+
+
 def _set_attr(attrs: str, name: str, value: str | None) -> str:
+    """``attrs`` with attribute ``name`` removed, then set first when ``value`` is given."""
     drop = _ATTR_DROP.get(name)
     if drop is None:
         drop = re.compile(r"\s+" + re.escape(name) + r"\s*=\s*(\"[^\"]*\"|'[^']*')")
         _ATTR_DROP[name] = drop
-    if name + "=" in attrs or name + " " in attrs:
+    if name in attrs:  # else there is nothing to drop: no regex needed
         attrs = drop.sub("", attrs)
     if value is not None:
         attrs = f' {name}="{value}"' + attrs
@@ -112,6 +180,9 @@ def _set_attr(attrs: str, name: str, value: str | None) -> str:
 
 
 def _number(x: float | int) -> str:
+    """A number as a cell value's text (whole floats without ".0", as Excel writes them)."""
+    if type(x) is float:  # the usual case first
+        return repr(x) if not x.is_integer() or abs(x) >= 1e16 else str(int(x))
     if isinstance(x, bool):
         return "1" if x else "0"
     if isinstance(x, int):
@@ -121,6 +192,8 @@ def _number(x: float | int) -> str:
 
 def _value_xml(value: CellValue, p: str, formula: bool) -> tuple[str | None, str]:
     """(t attribute, child XML) for a value; formula results use t="str" for text."""
+    if type(value) is float and math.isfinite(value):  # the usual case first
+        return None, f"<{p}v>{_number(value)}</{p}v>"
     if value is None:
         return None, ""
     if isinstance(value, SheetError):
@@ -137,23 +210,19 @@ def _value_xml(value: CellValue, p: str, formula: bool) -> tuple[str | None, str
     return "inlineStr", f'<{p}is><{p}t xml:space="preserve">{text}</{p}t></{p}is>'
 
 
-def _row_cells(body: str) -> dict[int, str]:
-    """A row's cells by column (a cell without its address follows the one before)."""
+def _row_xml(p: str, attrs: str, number: int, body: str, edits: Mapping[int, Edit]) -> str:
+    """Row ``number`` with ``edits`` (by column) made to its cells (``body``: their XML),
+    the cells in column order; of two cells in one column the last is kept."""
     cells: dict[int, str] = {}
     col = 0
     for cm in _CELL.finditer(body):
-        rm = _REF.match(_attr(cm.group("attrs"), "r") or "")
-        col = col_index(rm.group(1)) if rm else col + 1
-        cells[col] = cm.group(0)
-    return cells
-
-
-def _row_xml(p: str, attrs: str, number: int, cells: dict[int, str],
-             edits: Mapping[int, Edit]) -> str:
-    """A row with ``edits`` (by column) made to its ``cells``, in column order."""
+        col = _cell_column(cm, col)
+        edit = edits.get(col)
+        cells[col] = cm.group(0) if edit is None else _cell_xml(cm, p, number, col, edit)
     for c, e in edits.items():
-        cells[c] = _cell_xml(cells.get(c), p, f"{col_letters(c)}{number}", e)
-    inner = "".join(cells[c] for c in sorted(cells))
+        if c not in cells:
+            cells[c] = _cell_xml(None, p, number, c, e)
+    inner = "".join([cells[c] for c in sorted(cells)])
     attrs = _set_attr(attrs, "spans", None)
     return f"<{p}row{attrs}>{inner}</{p}row>" if inner else f"<{p}row{attrs}/>"
 
@@ -176,22 +245,29 @@ def _cached_text(body: str, t: str | None) -> CellValue:
         return text
 
 
-def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
-    """The new XML of one cell (``old`` XML, or None when the cell does not exist yet)."""
-    attrs = f' r="{ref}"'
-    formula = child = ext = ""
+def _formula_and_ext(body: str) -> tuple[str, str]:
+    """A cell's formula element and extLst (from its content ``body``), "" when absent.
+
+    >>> _formula_and_ext('<f>A1*2</f><v>4</v><extLst><ext uri="u"/></extLst>')
+    ('<f>A1*2</f>', '<extLst><ext uri="u"/></extLst>')
+    """
+    fm = _FORMULA.search(body)
+    em = _EXTLST.search(body) if "extLst" in body else None  # rare: no search without it
+    return fm.group(0) if fm else "", em.group(0) if em else ""
+
+
+def _cell_xml(old: re.Match[str] | None, p: str, row: int, col: int, edit: Edit) -> str:
+    """The new XML of the cell at ``row``, ``col`` (``old``: its match of the cell
+    pattern, or None when the cell does not exist yet)."""
+    formula = ext = body = ""
     t: str | None = None
-    if old is not None:
-        m = _CELL.match(old)
-        assert m is not None
-        attrs = m.group("attrs")
-        body = m.group("body") or ""
-        fm = _FORMULA.search(body)
-        formula = fm.group(0) if fm else ""
-        em = _EXTLST.search(body)
-        ext = em.group(0) if em else ""
+    if old is None:
+        attrs = f' r="{col_letters(col)}{row}"'
+    else:
+        attrs = old.group("attrs")
+        body = old.group("body") or ""
+        formula, ext = _formula_and_ext(body)
         t = _attr(attrs, "t")
-        child = _FORMULA.sub("", _EXTLST.sub("", body))
     if edit.formula == "":
         formula = ""
         attrs = _set_attr(_set_attr(attrs, "cm", None), "vm", None)
@@ -200,6 +276,7 @@ def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
         formula = f"<{p}f{extra}>{escape(edit.formula.removeprefix('='))}</{p}f>"
     value = edit.value
     if value is KEEP:
+        child = _FORMULA.sub("", _EXTLST.sub("", body))  # the value and anything else
         if formula or t != "str":
             return (
                 f"<{p}c{attrs}>{formula}{child}{ext}</{p}c>"
@@ -213,6 +290,25 @@ def _cell_xml(old: str | None, p: str, ref: str, edit: Edit) -> str:
     return f"<{p}c{attrs}>{inner}</{p}c>" if inner else f"<{p}c{attrs}/>"
 
 
+def _sheet_data(xml: str) -> tuple[re.Match[str], int | None] | None:
+    """The first sheetData element: its start tag's match and where its end tag starts
+    (None for ``<sheetData/>``); None when there is none (or it is never closed).
+
+    >>> m, end = _sheet_data("<w><sheetData><row/></sheetData></w>")
+    >>> m.end(), end
+    (14, 20)
+    """
+    at = 0
+    while (m := _SHEETDATA.search(xml, at)) is not None:
+        if m.group("end") == "/>":
+            return m, None
+        end = xml.find(f"</{m.group('p')}sheetData>", m.end())
+        if end >= 0:
+            return m, end
+        at = m.start() + 1
+    return None
+
+
 def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
     """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched.
 
@@ -222,9 +318,10 @@ def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
     formula's range, a new input) are created in order. Work and memory follow
     the edited rows, not the size of the sheet.
     """
-    m = _SHEETDATA.search(xml)
-    if m is None:
+    found = _sheet_data(xml)
+    if found is None:
         raise WorkbookError("damaged sheet: no sheetData")
+    m, end_tag = found
     p = m.group("p")
     keys = sorted(edits)
     j = 0
@@ -238,28 +335,27 @@ def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
             j += 1
         return got
 
-    if m.group("body") is None:  # <sheetData/>
+    if end_tag is None:  # <sheetData/>
         head, start, end = f"<{p}sheetData{m.group('attrs')}>", m.end(), m.end()
         parts, close = [xml[: m.start()], head], f"</{p}sheetData>"
     else:
-        start, end = m.start("body"), m.end("body")
+        start, end = m.end(), end_tag
         parts, close = [xml[:start]], ""
     copied = start  # xml[start:copied] is in parts
     number = 0
     for rm in _ROW.finditer(xml, start, end):
         if j == len(keys):
             break
-        given = _attr(rm.group("attrs"), "r")
-        number = int(given) if given and given.isdigit() else number + 1
+        number = _row_number(rm, number)
         if keys[j][0] > number:
             continue  # copied later, with its neighbours, as one slice
         parts.append(xml[copied : rm.start()])
         while j < len(keys) and keys[j][0] < number:  # new rows before this one
             n = keys[j][0]
-            parts.append(_row_xml(p, f' r="{n}"', n, {}, take(n)))
+            parts.append(_row_xml(p, f' r="{n}"', n, "", take(n)))
         if j < len(keys) and keys[j][0] == number:
-            cells = _row_cells(rm.group("body") or "")
-            parts.append(_row_xml(rm.group("p"), rm.group("attrs"), number, cells, take(number)))
+            body = rm.group("body") or ""
+            parts.append(_row_xml(rm.group("p"), rm.group("attrs"), number, body, take(number)))
         else:
             parts.append(rm.group(0))
         copied = rm.end()
@@ -270,7 +366,7 @@ def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
         parts.append(xml[copied:tail_at])
         while j < len(keys):
             n = keys[j][0]
-            parts.append(_row_xml(p, f' r="{n}"', n, {}, take(n)))
+            parts.append(_row_xml(p, f' r="{n}"', n, "", take(n)))
         copied = tail_at
     parts.append(xml[copied:end])
     parts.append(close)
@@ -354,12 +450,11 @@ def assemble(pkg: Package, parts: Mapping[str, bytes | None], extra: Mapping[str
 
 
 def apply_edits(
-    pkg: Package, edits: Mapping[CellRef, Edit], parts: dict[str, bytes | None]
+    pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits, parts: dict[str, bytes | None]
 ) -> None:
-    """Make ``edits`` in the sheets' XML (into ``parts``)."""
-    by_sheet: dict[str, dict[tuple[int, int], Edit]] = {}
-    for ref, e in edits.items():
-        by_sheet.setdefault(ref.sheet, {})[(ref.row, ref.col)] = e
+    """Make ``edits`` (by cell reference, or grouped by sheet) in the sheets' XML (into
+    ``parts``)."""
+    by_sheet = edits if isinstance(edits, SheetEdits) else SheetEdits.of(edits)
     for sheet in pkg.worksheets():
         cells = by_sheet.get(sheet.name)
         if cells:
@@ -367,7 +462,7 @@ def apply_edits(
             parts[sheet.part] = xml.encode("utf-8")
 
 
-def write_live(pkg: Package, edits: Mapping[CellRef, Edit]) -> bytes:
+def write_live(pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits) -> bytes:
     """The workbook with every formula kept and the ``edits`` (cached values, set inputs)
     made; calculation settings that show the stored values on open."""
     parts: dict[str, bytes | None] = {}
@@ -380,7 +475,7 @@ def write_live(pkg: Package, edits: Mapping[CellRef, Edit]) -> bytes:
 
 def write_values(
     pkg: Package,
-    edits: Mapping[CellRef, Edit],
+    edits: Mapping[CellRef, Edit] | SheetEdits,
     parts: dict[str, bytes | None] | None = None,
     extra: Mapping[str, bytes] | None = None,
 ) -> bytes:
