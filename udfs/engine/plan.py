@@ -227,10 +227,12 @@ class Plan:
                 if fc.kind in ("array", "dataTable"):
                     self._add_single(sheet.index, (r, c), fc, structures)
                     continue
-                key = texts.get((fc.text, fc.anchor))
+                # the cells of one filled-down (shared) formula share its text and anchor
+                key = texts.get((fc.text, fc.anchor)) if fc.kind == "shared" else None
                 if key is None:
                     key = relative_text(fc.text, *fc.anchor)
-                    texts[(fc.text, fc.anchor)] = key
+                    if fc.kind == "shared":
+                        texts[(fc.text, fc.anchor)] = key
                     if key not in groups:
                         self._count_text(len(fc.text))
                 groups[key].append((r, c))
