@@ -623,10 +623,11 @@ def render(rows: Iterable[Row]) -> str:
         "",
         "Run out of memory (a cap on the address space, as containers set), `calc` says",
         "`out of memory` on one line and stops with exit 1, leaving no file behind",
-        "(`tests/xlsx/test_hostile.py::test_out_of_memory_is_one_line_and_the_end`). A known",
-        "gap: with less than about 100 MiB of headroom the C XML parser (libexpat, through",
-        "pyexpat) can stop returning while the first sheet is read (3 of 14 runs at 50 and",
-        "75 MiB); the process then has to be stopped from outside.",
+        "(`tests/xlsx/test_hostile.py::test_out_of_memory_is_one_line_and_the_end`, caps",
+        "from 50 MiB up). The C XML parser (libexpat 2.5, through pyexpat) can loop instead",
+        "of returning when one of its own allocations fails (seen with about 75 MiB left), so",
+        "the reader stops with `out of memory` itself when less than 16 MiB of the cap is",
+        "left before each chunk it gives the parser (udfs/xlsx/headroom.py).",
         "",
         "The limits (udfs/xlsx/guard.py): file "
         f"{guard.MAX_INPUT_BYTES // 2**20} MiB, {guard.MAX_PARTS:,} zip parts, "

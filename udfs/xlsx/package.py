@@ -42,6 +42,7 @@ from defusedxml import DefusedXmlException
 from defusedxml.ElementTree import fromstring, iterparse
 
 from .file_errors import HostileFileError, WorkbookError
+from .headroom import ensure_headroom
 from .refs import MAX_COL, MAX_ROW, CellRef, col_index, sheet_key
 
 __all__ = [
@@ -278,6 +279,7 @@ class Package:
         with self._reading(part), self.zip.open(part) as fh:
             try:  # in chunks read here: an error in a callback stops the parse at once
                 while chunk := fh.read(1 << 16):
+                    ensure_headroom()  # libexpat out of memory may never return
                     parser.Parse(chunk, False)
                 parser.Parse(b"", True)
             except expat.ExpatError as exc:
