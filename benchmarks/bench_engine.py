@@ -42,7 +42,7 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from udfs.engine.model import load_model  # noqa: E402
-from udfs.xlsx.writer import Edit, write_live  # noqa: E402
+from udfs.xlsx.writer import Edit, package_bytes, write_live  # noqa: E402
 
 COLUMNS = 5
 RECALC_PROFILE = """<?xml version="1.0" encoding="UTF-8"?>
@@ -128,7 +128,7 @@ def stale_file(wb: openpyxl.Workbook, path: Path) -> int:
     wb.save(tmp)
     model = load_model(tmp.read_bytes(), tmp.name)
     edits = {model.ref_of(k): Edit(0.0) for k in model.formula_keys}
-    path.write_bytes(write_live(model.package, edits))
+    path.write_bytes(package_bytes(lambda out: write_live(model.package, edits, out)))
     tmp.unlink()
     return model.formula_count
 

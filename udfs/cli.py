@@ -157,7 +157,7 @@ def _cmd_template(args: argparse.Namespace) -> int:
 
 def _cmd_demo(args: argparse.Namespace) -> int:
     from udfs.app import templates
-    from udfs.app.calc import evaluation_bytes, findings
+    from udfs.app.calc import findings
     from udfs.app.demo import demo_spec, format_bom, fresh_demo_name
     from udfs.app.report import evaluation_lines
     from udfs.core.sizing import design_cell
@@ -166,11 +166,11 @@ def _cmd_demo(args: argparse.Namespace) -> int:
     out = args.output if args.output is not None else fresh_demo_name()
     check_output(out, args.force)  # refuse early, before any work
     _say(format_bom(design_cell(demo_spec())))
-    model, evaluation, _data = templates.demo_workbook()
+    model, evaluation, data = templates.demo_workbook()
     _say("")
     _say("Demo workbook (the cell-sizing template filled with the demo scenario), computed:")
     _lines(*evaluation_lines(model, evaluation, findings(evaluation)))
-    write_bytes_atomic(out, evaluation_bytes(model, evaluation, "live"), args.force)
+    write_bytes_atomic(out, data, args.force)
     _say(f"Wrote the demo workbook to {Path(out).resolve()} ({_MODE_TEXT['live']}).")
     _caution()
     return 0

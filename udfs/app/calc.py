@@ -28,7 +28,7 @@ import os
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, BinaryIO
 
 from udfs.core.errors import CellwrightError
 from udfs.engine.functions import to_cell
@@ -36,7 +36,7 @@ from udfs.engine.model import Evaluation, WorkbookModel, load_model
 from udfs.sheet.error_values import CellValue, SheetError
 from udfs.xlsx.collector import collector_paused
 from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
-from udfs.xlsx.files import check_output, read_input, write_bytes_atomic
+from udfs.xlsx.files import atomic_writer, check_output, read_input
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
 from udfs.xlsx.refs import CellRef, parse_value
 from udfs.xlsx.values_copy import (
@@ -46,7 +46,7 @@ from udfs.xlsx.values_copy import (
     label_parts,
     restored,
 )
-from udfs.xlsx.writer import Edit, SheetEdits, write_live, write_values
+from udfs.xlsx.writer import Edit, SheetEdits, package_bytes, write_live, write_values
 
 __all__ = [
     "MODES",
@@ -59,6 +59,7 @@ __all__ = [
     "findings",
     "open_model",
     "write_evaluation",
+    "write_evaluation_to",
 ]
 
 StrPath = str | os.PathLike[str]
@@ -194,14 +195,22 @@ def _listed_inputs(
     return rows, len(seen) - len(listed)
 
 
-@collector_paused()
 def evaluation_bytes(model: WorkbookModel, evaluation: Evaluation, mode: str = "live") -> bytes:
-    """A copy of ``model``'s workbook with ``evaluation`` in it: ``mode`` "live" keeps
-    every formula with its value cached, "values" is a labelled values-only copy."""
+    """:func:`write_evaluation_to`, in memory."""
+    return package_bytes(lambda out: write_evaluation_to(model, evaluation, out, mode))
+
+
+@collector_paused()
+def write_evaluation_to(
+    model: WorkbookModel, evaluation: Evaluation, out: BinaryIO, mode: str = "live"
+) -> None:
+    """Write to ``out`` a copy of ``model``'s workbook with ``evaluation`` in it: ``mode``
+    "live" keeps every formula with its value cached, "values" is a labelled values-only
+    copy."""
     if mode not in MODES:
         raise ValueError(f"mode must be one of {MODES}")
     if mode == "live":
-        data = write_live(model.package, _edits(model, evaluation, strip=False))
+        write_live(model.package, _edits(model, evaluation, strip=False), out)
     else:
         edits = _edits(model, evaluation, strip=True)
         kept = []
@@ -225,8 +234,7 @@ def evaluation_bytes(model: WorkbookModel, evaluation: Evaluation, mode: str = "
             formulas_xml(kept),
             parts,
         )
-        data = write_values(model.package, edits, parts, extra)
-    return data
+        write_values(model.package, edits, out, parts, extra)
 
 
 def write_evaluation(
@@ -238,9 +246,12 @@ def write_evaluation(
     mode: str = "live",
     inputs: tuple[StrPath, ...] = (),
 ) -> Path:
-    """Write :func:`evaluation_bytes` to ``out`` atomically (never over ``inputs``)."""
+    """:func:`write_evaluation_to` the file ``out``, atomically (never over ``inputs``)."""
     check_output_suffix(model, out)
-    write_bytes_atomic(out, evaluation_bytes(model, evaluation, mode), force, inputs)
+    if mode not in MODES:  # before the file is created
+        raise ValueError(f"mode must be one of {MODES}")
+    with atomic_writer(out, force, inputs) as fh:
+        write_evaluation_to(model, evaluation, fh, mode)
     return Path(out)
 
 

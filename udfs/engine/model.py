@@ -42,7 +42,7 @@ from udfs.xlsx.file_errors import WorkbookError
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
 from udfs.xlsx.reader import WorkbookData, check_fallback, read_workbook
 from udfs.xlsx.refs import CellRef, col_letters, parse_cell
-from udfs.xlsx.writer import Edit, write_live
+from udfs.xlsx.writer import Edit, package_bytes, write_live
 
 from .evaluator import Evaluator, Result, engine_value
 from .fallback import calculate_whole
@@ -444,7 +444,7 @@ class WorkbookModel:
         data = self.data
         if changes:
             edits = {self.ref_of(k): Edit(to_cell(v)) for k, v in changes.items()}
-            data = write_live(self.package, edits)
+            data = package_bytes(lambda out: write_live(self.package, edits, out))
         computed = calculate_whole(data, self.sheet_names, self.book.iterate)
         values_by_key: dict[Key, Any] = {}
         for s in self.sheets:

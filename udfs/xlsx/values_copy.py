@@ -30,7 +30,7 @@ from .guard import Limits
 from .package import Package
 from .reader import read_workbook
 from .refs import CellRef, col_index, quote_sheet
-from .writer import Edit, apply_edits, assemble, escape, text_of
+from .writer import Edit, apply_edits, assemble, escape, package_bytes, text_of
 
 __all__ = [
     "ABOUT_SHEET",
@@ -347,7 +347,7 @@ def restored(data: bytes, name: str, limits: Limits) -> bytes | None:
     parts: dict[str, bytes | None] = {}
     apply_edits(book.package, edits, parts)
     unlabel_parts(book.package, parts)
-    return assemble(book.package, parts, {})
+    return package_bytes(lambda out: assemble(book.package, parts, {}, out))
 
 
 __all__ += ["restored"]

@@ -29,9 +29,11 @@ import functools
 import io
 import math
 import re
+import shutil
 import zipfile
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from typing import BinaryIO
 
 from udfs.sheet.error_values import CellValue, SheetError
 
@@ -45,6 +47,7 @@ __all__ = [
     "Edit",
     "SheetEdits",
     "escape",
+    "package_bytes",
     "patch_sheet",
     "write_live",
     "write_values",
@@ -310,7 +313,18 @@ def _sheet_data(xml: str) -> tuple[re.Match[str], int | None] | None:
 
 
 def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
-    """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched.
+    """The sheet XML with ``edits`` (by (row, column)) made; other cells untouched
+    (see :func:`_patched`).
+
+    >>> patch_sheet('<w><sheetData><row r="1"><c r="A1"><v>1</v></c></row></sheetData></w>',
+    ...             {(1, 1): Edit(2.5)})
+    '<w><sheetData><row r="1"><c r="A1"><v>2.5</v></c></row></sheetData></w>'
+    """
+    return "".join(_patched(xml, edits))
+
+
+def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> list[str]:
+    """The pieces of the sheet XML with ``edits`` made, in order.
 
     One pass over the rows up to the last edited one: rows without edits are
     copied as slices of the text (never parsed into cells), and everything after
@@ -371,7 +385,7 @@ def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
     parts.append(xml[copied:end])
     parts.append(close)
     parts.append(xml[end:])
-    return "".join(parts)
+    return parts
 
 
 def _patch_calc_pr(xml: str) -> str:
@@ -427,26 +441,54 @@ def text_of(parts: Mapping[str, bytes | None], pkg: Package, part: str) -> str:
     return _PROLOG_ENCODING.sub(r"\1\2UTF-8\2", text, count=1)
 
 
-def assemble(pkg: Package, parts: Mapping[str, bytes | None], extra: Mapping[str, bytes]) -> bytes:
-    """The new package: changed parts replaced, None parts left out, ``extra`` added."""
-    out = io.BytesIO()
+def assemble(
+    pkg: Package,
+    parts: Mapping[str, bytes | None],
+    extra: Mapping[str, bytes],
+    out: BinaryIO,
+) -> None:
+    """Write the new package to ``out``: changed parts replaced, None parts left out,
+    ``extra`` added; unchanged parts are streamed through (never held whole)."""
     with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as zf:
         for info in pkg.infos:
-            if info.filename in parts and parts[info.filename] is None:
-                continue
             data = parts.get(info.filename)
-            if data is None:
-                data = pkg.zip.read(info.filename)
+            if data is None and info.filename in parts:
+                continue
             zi = zipfile.ZipInfo(info.filename, date_time=info.date_time)
             zi.compress_type = zipfile.ZIP_DEFLATED
             zi.external_attr = info.external_attr
-            zf.writestr(zi, data)
+            if data is not None:
+                zf.writestr(zi, data)
+                continue
+            zi.file_size = info.file_size  # lets zipfile choose its record format up front
+            with pkg.zip.open(info) as src, zf.open(zi, "w") as dst:
+                shutil.copyfileobj(src, dst, 1 << 20)
         stamp = pkg.infos[0].date_time if pkg.infos else (1980, 1, 1, 0, 0, 0)
         for name, data in extra.items():
             zi = zipfile.ZipInfo(name, date_time=stamp)
             zi.compress_type = zipfile.ZIP_DEFLATED
             zf.writestr(zi, data)
-    return out.getvalue()
+
+
+def package_bytes(write: Callable[[BinaryIO], None]) -> bytes:
+    """What ``write`` writes, as bytes (for a package wanted in memory).
+
+    >>> package_bytes(lambda out: out.write(b"PK"))
+    b'PK'
+    """
+    buf = io.BytesIO()
+    write(buf)
+    return buf.getvalue()
+
+
+def _utf8(pieces: list[str]) -> bytes:
+    """The pieces' text in UTF-8, each piece let go once encoded (a large sheet is never
+    held as text and as bytes at once)."""
+    buf = io.BytesIO()
+    for i, piece in enumerate(pieces):
+        buf.write(piece.encode("utf-8"))
+        pieces[i] = ""
+    return buf.getvalue()
 
 
 def apply_edits(
@@ -458,33 +500,36 @@ def apply_edits(
     for sheet in pkg.worksheets():
         cells = by_sheet.get(sheet.name)
         if cells:
-            xml = patch_sheet(text_of(parts, pkg, sheet.part), cells)
-            parts[sheet.part] = xml.encode("utf-8")
+            parts[sheet.part] = _utf8(_patched(text_of(parts, pkg, sheet.part), cells))
 
 
-def write_live(pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits) -> bytes:
-    """The workbook with every formula kept and the ``edits`` (cached values, set inputs)
-    made; calculation settings that show the stored values on open."""
+def write_live(
+    pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits, out: BinaryIO
+) -> None:
+    """Write to ``out`` the workbook with every formula kept and the ``edits`` (cached
+    values, set inputs) made; calculation settings that show the stored values on open."""
     parts: dict[str, bytes | None] = {}
     apply_edits(pkg, edits, parts)
     parts[pkg.workbook_part] = _patch_calc_pr(text_of(parts, pkg, pkg.workbook_part)).encode(
         "utf-8"
     )
-    return assemble(pkg, parts, {})
+    assemble(pkg, parts, {}, out)
 
 
 def write_values(
     pkg: Package,
     edits: Mapping[CellRef, Edit] | SheetEdits,
+    out: BinaryIO,
     parts: dict[str, bytes | None] | None = None,
     extra: Mapping[str, bytes] | None = None,
-) -> bytes:
-    """The workbook with the ``edits`` made (formulas removed where they say so), the
-    calculation chain left out, and ``parts``/``extra`` from the values-only labelling."""
+) -> None:
+    """Write to ``out`` the workbook with the ``edits`` made (formulas removed where they
+    say so), the calculation chain left out, and ``parts``/``extra`` from the values-only
+    labelling."""
     parts = {} if parts is None else parts
     apply_edits(pkg, edits, parts)
     parts[pkg.workbook_part] = _patch_calc_pr(text_of(parts, pkg, pkg.workbook_part)).encode(
         "utf-8"
     )
     drop_calc_chain(parts, pkg)
-    return assemble(pkg, parts, extra or {})
+    assemble(pkg, parts, extra or {}, out)
