@@ -140,7 +140,7 @@ MiB = 1024 * 1024
 #: Wall time and peak resident memory of ``cellwright calc`` on any workbook within the limits.
 PROMISED_SECONDS = 20.0
 # 512 MiB held while the formula limit was 10,000; with 200,000 formula cells the
-# worst file measured (every limit at once) peaks at about 710 MiB
+# worst file measured (every limit at once) peaks at about 630 MiB (10 s)
 PROMISED_PEAK_MIB = 768
 MAX_INPUT_BYTES = 32 * MiB
 MAX_PARTS = 1_000

@@ -88,7 +88,7 @@ _PROLOG_ENCODING = re.compile(r"^(<\?xml[^>]*?encoding=)([\"'])[^\"']*\2")
 _REF = re.compile(r"^([A-Z]{1,3})([0-9]+)$")
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Edit:
     """What to do to one cell: its new ``value`` (or :data:`KEEP`), and its formula:
     None keeps it, "" removes it, text (with "=") sets it (``array``: its range)."""
