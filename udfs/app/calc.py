@@ -248,8 +248,6 @@ def write_evaluation(
 ) -> Path:
     """:func:`write_evaluation_to` the file ``out``, atomically (never over ``inputs``)."""
     check_output_suffix(model, out)
-    if mode not in MODES:  # before the file is created
-        raise ValueError(f"mode must be one of {MODES}")
     with atomic_writer(out, force, inputs) as fh:
         write_evaluation_to(model, evaluation, fh, mode)
     return Path(out)

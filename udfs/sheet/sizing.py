@@ -229,16 +229,22 @@ def _roll_checks(thickness: Any, core_mm: Any, width_mm: Any) -> None:
                           ">= the roll's thickness (a flat roll), or 0 for a round roll")
 
 
+#: the roll arguments CW_WOUND_LENGTH and CW_WOUND_THICKNESS share
+_ROLL_ARGS = (
+    Num("core_mm", "core hole diameter or flat mandrel thickness, mm", NONNEGATIVE),
+    Num("pitch_um", "repeat unit: cathode + anode + 2 separators, um", POSITIVE),
+    Num("width_mm", "flat roll's outer width, mm (0: a round roll)", NONNEGATIVE,
+        default=0.0),
+)
+
+
 @sheet_function(
     "CW_WOUND_LENGTH",
     "Strip length (mm) a wound roll holds: an Archimedean spiral of the repeat unit from the "
     "core to the roll's thickness (a round roll's diameter), racetrack-shaped if width_mm > 0.",
     [
         Num("thickness_mm", "roll thickness, or a round roll's diameter, mm", POSITIVE),
-        Num("core_mm", "core hole diameter or flat mandrel thickness, mm", NONNEGATIVE),
-        Num("pitch_um", "repeat unit: cathode + anode + 2 separators, um", POSITIVE),
-        Num("width_mm", "flat roll's outer width, mm (0: a round roll)", NONNEGATIVE,
-            default=0.0),
+        *_ROLL_ARGS,
     ],
     section=Section.SIZING,
     returns="mm",
@@ -260,10 +266,7 @@ def CW_WOUND_LENGTH(thickness_mm: Any, core_mm: Any, pitch_um: Any, width_mm: An
     "CW_WOUND_LENGTH.",
     [
         Num("length_mm", "strip length of the repeat unit, mm", POSITIVE),
-        Num("core_mm", "core hole diameter or flat mandrel thickness, mm", NONNEGATIVE),
-        Num("pitch_um", "repeat unit: cathode + anode + 2 separators, um", POSITIVE),
-        Num("width_mm", "flat roll's outer width, mm (0: a round roll)", NONNEGATIVE,
-            default=0.0),
+        *_ROLL_ARGS,
     ],
     section=Section.SIZING,
     returns="mm",

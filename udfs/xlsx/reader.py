@@ -309,10 +309,7 @@ class _SheetReader:
         book.cells += 1
         if book.cells > book.limits.cells:
             raise HostileFileError(book.name, f"more than {book.limits.cells:,} cells")
-        if row > sheet.grid_rows:  # _grow(sheet, row, col), inline: once per cell
-            sheet.grid_rows = row
-        if col > sheet.grid_cols:
-            sheet.grid_cols = col
+        _grow(sheet, row, col)
         t = attrs.get("t", "n")
         value = self._number() if t == "n" else self._value(t)
         f = self.f
@@ -325,10 +322,7 @@ class _SheetReader:
             sheet.values[(row, col)] = value
         else:
             return
-        if row > sheet.max_row:  # _extend(sheet, row, col), inline: once per cell
-            sheet.max_row = row
-        if col > sheet.max_col:
-            sheet.max_col = col
+        _extend(sheet, row, col)
 
     def _place(self, ref: str | None) -> tuple[int, int]:
         """(row, col) of a cell's ``r`` as :func:`_coord` reads it; without one, the cell
