@@ -104,7 +104,8 @@ def _cmd_calc(args: argparse.Namespace) -> int:
         checked_overrides,
         findings,
         open_model,
-        write_evaluation,
+        prepare_output,
+        write_prepared,
     )
     from udfs.app.report import evaluation_lines
     from udfs.xlsx.file_errors import ReferenceSyntaxError
@@ -118,20 +119,21 @@ def _cmd_calc(args: argparse.Namespace) -> int:
             raise ReferenceSyntaxError(f"--set {target[:60]} is given twice")
         texts[target] = value
     check_output(args.output, args.force, inputs=[args.input])
-    model = open_model(args.input, _limits(args))
+    model = open_model(args.input, _limits(args), cached=False)  # one shot: not kept
     check_output_suffix(model, args.output)
     evaluation = model.evaluate(checked_overrides(model, texts))
     found = findings(evaluation)
     _lines(*evaluation_lines(model, evaluation, found))
+    problems = len(evaluation.errors())
     mode = "values" if args.values_only else "live"
-    path = write_evaluation(
-        model, evaluation, args.output, force=args.force, mode=mode, inputs=(args.input,)
-    )
+    prepared = prepare_output(model, evaluation, mode)
+    del model, evaluation  # writing needs neither: their memory is free for it
+    path = write_prepared(prepared, args.output, force=args.force, inputs=(args.input,))
     _say(f"Wrote {path} ({_MODE_TEXT[mode]}); {args.input} was not modified.")
     _caution()
-    if args.strict and (found or evaluation.errors()):
+    if args.strict and (found or problems):
         _say(f"{PROG} calc: --strict: {len(found)} design check(s) fire, "
-             f"{len(evaluation.errors())} problem(s)", sys.stderr)
+             f"{problems} problem(s)", sys.stderr)
         return 1
     return 0
 

@@ -244,6 +244,19 @@ def test_cache_by_content_hash():
         register({"CW_TEST_DOUBLE": _double})
 
 
+def test_formula_keys_are_every_cell_a_formula_fills_once_in_order():
+    # the keys are the plan's own (a sorted list searched by bisection, no second set):
+    # each formula cell once, every cell of an array formula's range, nothing else
+    model = load_model(_bytes(_fake_book()), "fake.xlsx")
+    calc = model.sheet_names.index("Calc")
+    expected = {(calc, r, 1) for r in range(1, 10)}
+    expected |= {(calc, r, c) for r in (1, 2) for c in (2, 3, 4)}  # B1:D2
+    assert model.formula_keys == sorted(expected)
+    for ref, formula in [("Calc!A9", True), ("Calc!D2", True), ("Calc!E1", False),
+                         ("Calc!A10", False), ("In!A1", False)]:
+        assert model.is_formula(model.resolve(ref)) is formula, ref
+
+
 @pytest.mark.parametrize(
     ("target", "message"),
     [

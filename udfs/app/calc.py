@@ -38,6 +38,7 @@ from udfs.xlsx.collector import collector_paused
 from udfs.xlsx.file_errors import ReferenceSyntaxError, WorkbookError
 from udfs.xlsx.files import atomic_writer, check_output, read_input
 from udfs.xlsx.guard import DEFAULT_LIMITS, Limits
+from udfs.xlsx.package import Package
 from udfs.xlsx.refs import CellRef, parse_value
 from udfs.xlsx.values_copy import (
     MARKER,
@@ -46,20 +47,23 @@ from udfs.xlsx.values_copy import (
     label_parts,
     restored,
 )
-from udfs.xlsx.writer import Edit, SheetEdits, package_bytes, write_live, write_values
+from udfs.xlsx.writer import Edit, NewPart, SheetEdits, package_bytes, write_live, write_values
 
 __all__ = [
     "MODES",
     "CalcReport",
     "Finding",
+    "PreparedOutput",
     "calculate_file",
     "check_output_suffix",
     "checked_overrides",
     "evaluation_bytes",
     "findings",
     "open_model",
+    "prepare_output",
     "write_evaluation",
     "write_evaluation_to",
+    "write_prepared",
 ]
 
 StrPath = str | os.PathLike[str]
@@ -87,12 +91,16 @@ class Finding:
     message: str
 
 
-def open_model(path: StrPath, limits: Limits = DEFAULT_LIMITS) -> WorkbookModel:
-    """The model of the workbook at ``path`` (read-only; a values-only copy restored)."""
+def open_model(
+    path: StrPath, limits: Limits = DEFAULT_LIMITS, *, cached: bool = True
+) -> WorkbookModel:
+    """The model of the workbook at ``path`` (read-only; a values-only copy restored);
+    kept in the cache of models unless not ``cached`` (a one-shot command)."""
     data = read_input(path, limits.input_bytes)
     name = Path(path).name
     back = restored(data, name, limits)
-    model = load_model(back if back is not None else data, name, limits)
+    book = back if back is not None else data
+    model = load_model(book, name, limits) if cached else WorkbookModel(book, name, limits)
     if back is not None:
         model.restored_from_values = True
     return model
@@ -154,16 +162,20 @@ def check_output_suffix(model: WorkbookModel, out: StrPath) -> None:
 def _edits(model: WorkbookModel, evaluation: Evaluation, strip: bool) -> SheetEdits:
     """Computed formula cells get their values (and lose their formula when ``strip``);
     cells not evaluated, or computed from them, stay as they are. Grouped by sheet as
-    they are made (no cell reference object per formula cell: large sheets write faster)."""
+    they are made (no cell reference object per formula cell: large sheets write faster;
+    the reader's own (row, col) tuples as keys: 11 MB less at 200,000 formula cells)."""
     frozen = model.not_evaluated | model.untrusted
     edits = SheetEdits()
     computed = evaluation.result.values
     formula = "" if strip else None
-    by_index = [edits.cells(s.name) for s in model.sheets]
-    for key in model.formula_keys:
-        if key not in frozen:
-            s, r, c = key
-            by_index[s][(r, c)] = Edit(to_cell(computed.get(key)), formula)
+    for sheet in model.sheets:
+        s, cells = sheet.index, edits.cells(sheet.name)
+        for pos, written in sheet.formulas.items():  # keyed by the reader's (row, col)
+            filled = [pos] if written.span is None else _cells_of(written.span)
+            for cell in filled:
+                key = (s, *cell)
+                if key not in frozen:
+                    cells[cell] = Edit(to_cell(computed.get(key)), formula)
     for ref, value in evaluation.inputs.items():
         edits.cells(ref.sheet)[(ref.row, ref.col)] = Edit(value)
     if strip:  # a kept cell of a filled-down formula keeps its own text, not the master's
@@ -174,6 +186,11 @@ def _edits(model: WorkbookModel, evaluation: Evaluation, strip: bool) -> SheetEd
             if fc is not None and fc.kind == "shared" and text is not None:
                 edits.cells(ref.sheet)[(ref.row, ref.col)] = Edit(formula=text)
     return edits
+
+
+def _cells_of(span: tuple[int, int, int, int]) -> list[tuple[int, int]]:
+    r1, c1, r2, c2 = span
+    return [(r, c) for r in range(r1, r2 + 1) for c in range(c1, c2 + 1)]
 
 
 def _listed_inputs(
@@ -200,41 +217,83 @@ def evaluation_bytes(model: WorkbookModel, evaluation: Evaluation, mode: str = "
     return package_bytes(lambda out: write_evaluation_to(model, evaluation, out, mode))
 
 
+@dataclass
+class PreparedOutput:
+    """What writing a computed copy needs, and nothing of the model: the input package
+    and the edits (with the values-only copy's labelling parts). A one-shot command lets
+    the model go before writing (its plan and values are most of the memory of a large
+    workbook: at every limit at once, ``calc`` peaks 54 MiB lower, 431 MiB).
+    """
+
+    package: Package
+    edits: SheetEdits
+    mode: str = "live"
+    parts: dict[str, NewPart] = field(default_factory=dict)
+    extra: dict[str, bytes] = field(default_factory=dict)
+
+    @collector_paused()
+    def write_to(self, out: BinaryIO) -> None:
+        """Write the copy to ``out`` (any number of times)."""
+        if self.mode == "live":
+            write_live(self.package, self.edits, out)
+        else:
+            write_values(self.package, self.edits, out, dict(self.parts), self.extra)
+
+
 @collector_paused()
-def write_evaluation_to(
-    model: WorkbookModel, evaluation: Evaluation, out: BinaryIO, mode: str = "live"
-) -> None:
-    """Write to ``out`` a copy of ``model``'s workbook with ``evaluation`` in it: ``mode``
+def prepare_output(
+    model: WorkbookModel, evaluation: Evaluation, mode: str = "live"
+) -> PreparedOutput:
+    """A copy of ``model``'s workbook with ``evaluation`` in it, ready to write: ``mode``
     "live" keeps every formula with its value cached, "values" is a labelled values-only
     copy."""
     if mode not in MODES:
         raise ValueError(f"mode must be one of {MODES}")
     if mode == "live":
-        write_live(model.package, _edits(model, evaluation, strip=False), out)
-    else:
-        edits = _edits(model, evaluation, strip=True)
-        kept = []
-        frozen = model.not_evaluated | model.untrusted
-        for key in model.formula_keys:
-            fc = model.sheets[key[0]].formulas.get(key[1:])
-            if key in frozen or fc is None:
-                continue  # kept in place, or a member of an array formula (its top cell keeps it)
-            ref = model.ref_of(key)
-            span = None
-            if fc.span is not None:
-                r1, c1, r2, c2 = fc.span
-                span = f"{CellRef('', r1, c1).coordinate}:{CellRef('', r2, c2).coordinate}"
-            kept.append((ref.sheet, ref.coordinate, fc.text_at(ref.row, ref.col), span))
-        listed, left_out = _listed_inputs(model, evaluation)
-        when = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
-        parts: dict[str, bytes | None] = {}
-        extra = label_parts(
-            model.package,
-            about_xml(listed, when, model.name, model.sha256, left_out),
-            formulas_xml(kept),
-            parts,
-        )
-        write_values(model.package, edits, out, parts, extra)
+        return PreparedOutput(model.package, _edits(model, evaluation, strip=False))
+    edits = _edits(model, evaluation, strip=True)
+    kept = []
+    frozen = model.not_evaluated | model.untrusted
+    for key in model.formula_keys:
+        fc = model.sheets[key[0]].formulas.get(key[1:])
+        if key in frozen or fc is None:
+            continue  # kept in place, or a member of an array formula (its top cell keeps it)
+        ref = model.ref_of(key)
+        span = None
+        if fc.span is not None:
+            r1, c1, r2, c2 = fc.span
+            span = f"{CellRef('', r1, c1).coordinate}:{CellRef('', r2, c2).coordinate}"
+        kept.append((ref.sheet, ref.coordinate, fc.text_at(ref.row, ref.col), span))
+    listed, left_out = _listed_inputs(model, evaluation)
+    when = dt.datetime.now(dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    parts: dict[str, NewPart] = {}
+    extra = label_parts(
+        model.package,
+        about_xml(listed, when, model.name, model.sha256, left_out),
+        formulas_xml(kept),
+        parts,
+    )
+    return PreparedOutput(model.package, edits, mode, parts, dict(extra))
+
+
+def write_evaluation_to(
+    model: WorkbookModel, evaluation: Evaluation, out: BinaryIO, mode: str = "live"
+) -> None:
+    """Write to ``out`` the copy :func:`prepare_output` prepares."""
+    prepare_output(model, evaluation, mode).write_to(out)
+
+
+def write_prepared(
+    prepared: PreparedOutput,
+    out: StrPath,
+    *,
+    force: bool = False,
+    inputs: tuple[StrPath, ...] = (),
+) -> Path:
+    """Write ``prepared`` to the file ``out``, atomically (never over ``inputs``)."""
+    with atomic_writer(out, force, inputs) as fh:
+        prepared.write_to(fh)
+    return Path(out)
 
 
 def write_evaluation(
@@ -248,9 +307,7 @@ def write_evaluation(
 ) -> Path:
     """:func:`write_evaluation_to` the file ``out``, atomically (never over ``inputs``)."""
     check_output_suffix(model, out)
-    with atomic_writer(out, force, inputs) as fh:
-        write_evaluation_to(model, evaluation, fh, mode)
-    return Path(out)
+    return write_prepared(prepare_output(model, evaluation, mode), out, force=force, inputs=inputs)
 
 
 def calculate_file(

@@ -172,16 +172,6 @@ class Evaluator:
             self.plan_index.add(u)
         self.programs: dict[str, Program] = {}
         self.volatile = plan.downstream(u.index for u in plan.units if u.structure.dynamic)
-        self._base: dict[Key, Any] = {}
-        for sheet in plan.book.sheets:
-            for (r, c), v in sheet.values.items():
-                self._base[(sheet.index, r, c)] = engine_value(v)
-        for u in plan.units:
-            if u.problem is not None:
-                for key in u.cell_keys():
-                    fc = plan.book.sheets[u.sheet].formulas.get(key[1:])
-                    if fc is not None:
-                        self._base[key] = engine_value(fc.cached)
         self._default: Result | None = None
         self._readers: dict[Key, set[int]] | None = None
         self._wide: list[tuple[tuple[int, int, int, int, int], int]] = []
@@ -270,10 +260,26 @@ class Evaluator:
     def default(self) -> Result:
         """Every formula cell evaluated with the workbook's own inputs (cached)."""
         if self._default is None:
-            run = _Run(self, dict(self._base), {u.index for u in self.plan.units})
+            run = _Run(self, self._constants(), {u.index for u in self.plan.units})
             self.run_units(self.plan.units, run)
             self._default = Result(run.values, run.messages)
         return self._default
+
+    def _constants(self) -> dict[Key, Any]:
+        """Engine values of the constant cells, and the cached values of the formula cells
+        not evaluated (built for the one default run, which fills it in)."""
+        plan = self.plan
+        out: dict[Key, Any] = {}
+        for sheet in plan.book.sheets:
+            for (r, c), v in sheet.values.items():
+                out[(sheet.index, r, c)] = engine_value(v)
+        for u in plan.units:
+            if u.problem is not None:
+                for key in u.cell_keys():
+                    fc = plan.book.sheets[u.sheet].formulas.get(key[1:])
+                    if fc is not None:
+                        out[key] = engine_value(fc.cached)
+        return out
 
     def run(self, changes: Mapping[Key, Any], outputs: Sequence[Key] | None = None) -> Result:
         """Values after setting ``changes`` (engine values by key); only what they reach

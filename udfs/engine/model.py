@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import hashlib
 import time
+from bisect import bisect_left
 from collections import OrderedDict
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -185,10 +186,8 @@ class WorkbookModel:
         self._extended: OrderedDict[tuple[tuple[int, tuple[int, int]], ...], Evaluator] = (
             OrderedDict()
         )
-        self.formula_keys: list[Key] = sorted(
-            k for s in self.sheets for k in self._formula_cells(s.index)
-        )
-        self._formula_set = set(self.formula_keys)
+        # every cell a formula fills, sorted (the plan's keys, not copies of them)
+        self.formula_keys: list[Key] = sorted(self.plan.owner)
         self.not_evaluated: set[Key] = set()
         self.static_diagnostics = [_note(n) for n in self.report.notes]
         self._diagnose()
@@ -197,16 +196,6 @@ class WorkbookModel:
         self.build_seconds = time.perf_counter() - t0
 
     # ------------------------------------------------------------------ reading
-    def _formula_cells(self, sheet: int) -> list[Key]:
-        out: list[Key] = []
-        for (r, c), fc in self.sheets[sheet].formulas.items():
-            if fc.span is None:
-                out.append((sheet, r, c))
-            else:
-                r1, c1, r2, c2 = fc.span
-                out += [(sheet, rr, cc) for rr in range(r1, r2 + 1) for cc in range(c1, c2 + 1)]
-        return out
-
     def _diagnose(self) -> None:
         plan = self.plan
         bad = [u for u in plan.units if u.problem is not None]
@@ -291,7 +280,12 @@ class WorkbookModel:
         return self.ref_of(key).address
 
     def is_formula(self, ref: CellRef) -> bool:
-        return self.key_of(ref) in self._formula_set
+        return self._is_formula_key(self.key_of(ref))
+
+    def _is_formula_key(self, key: Key) -> bool:
+        keys = self.formula_keys
+        i = bisect_left(keys, key)
+        return i < len(keys) and keys[i] == key
 
     def constant(self, ref: CellRef) -> CellValue:
         """The value stored in a non-formula cell (None when empty)."""
@@ -382,7 +376,7 @@ class WorkbookModel:
                 f"(got {type(value).__name__})"
             )
         k = self.key_of(ref)
-        if k in self._formula_set:
+        if self._is_formula_key(k):
             where = "holds a formula"
             for (r, c), fc in self.sheets[k[0]].formulas.items():
                 span = fc.span

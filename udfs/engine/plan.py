@@ -27,7 +27,8 @@ from __future__ import annotations
 import bisect
 from collections import defaultdict
 from collections.abc import Callable, Iterable, Iterator
-from dataclasses import dataclass, field
+from collections.abc import Set as AbstractSet
+from dataclasses import dataclass
 
 from udfs.xlsx.file_errors import HostileFileError
 from udfs.xlsx.formula_text import Area
@@ -39,6 +40,9 @@ from .structure import Context, RefSlot, Structure, relative_text
 __all__ = ["CellIndex", "Key", "Plan", "Unit"]
 
 Key = tuple[int, int, int]  # (sheet index, row, column)
+#: The dependencies or readers of a unit that has none (most units of a large sheet):
+#: one shared empty set instead of two empty sets per unit.
+_NO_UNITS: frozenset[int] = frozenset()
 Rect = tuple[int, int, int, int, int]  # (sheet, r1, c1, r2, c2)
 
 
@@ -51,8 +55,8 @@ class Unit:
     structure: Structure
     anchor: tuple[int, int]  # the cell the structure's areas are written for
     span: tuple[int, int, int, int] | None = None  # an array formula's range
-    deps: set[int] = field(default_factory=set)
-    readers: set[int] = field(default_factory=set)
+    deps: AbstractSet[int] = _NO_UNITS  # units it reads
+    readers: AbstractSet[int] = _NO_UNITS  # units reading it
     index: int = 0
     depth: int = 0
     problem: str | None = None  # not evaluated: why
@@ -223,9 +227,9 @@ class Plan:
             groups: dict[str, list[tuple[int, int]]] = defaultdict(list)
             firsts: dict[str, FormulaCell] = {}
             texts: dict[tuple[str, tuple[int, int]], str] = {}
-            for (r, c), fc in sheet.formulas.items():
+            for pos, fc in sheet.formulas.items():  # pos: the reader's tuple, shared
                 if fc.kind in ("array", "dataTable"):
-                    self._add_single(sheet.index, (r, c), fc, structures)
+                    self._add_single(sheet.index, pos, fc, structures)
                     continue
                 # the cells of one filled-down (shared) formula share its text and anchor
                 key = texts.get((fc.text, fc.anchor)) if fc.kind == "shared" else None
@@ -235,9 +239,9 @@ class Plan:
                         texts[(fc.text, fc.anchor)] = key
                     if key not in groups:
                         self._count_text(len(fc.text))
-                groups[key].append((r, c))
+                groups[key].append(pos)
                 if key not in firsts:
-                    firsts[key] = FormulaCell(fc.text_at(r, c), (r, c))
+                    firsts[key] = FormulaCell(fc.text_at(*pos), pos)
             for key, cells in groups.items():
                 first = firsts[key]
                 s = self._structure(sheet.index, first, structures)
@@ -292,20 +296,22 @@ class Plan:
             index.add(u)
         todo = self.units if only is None else [self.units[i] for i in sorted(only)]
         for u in todo:
-            u.deps.clear()
+            deps: set[int] = set()
             for slot in u.structure.refs:
                 if slot.kind != "ref":
                     continue
                 rect = u.reach(slot)
                 if rect is not None:
-                    u.deps.update(index.find(rect))
+                    deps.update(index.find(rect))
             if u.sequential:
-                u.deps.discard(u.index)
-        for u in self.units:
-            u.readers.clear()
+                deps.discard(u.index)
+            u.deps = deps or _NO_UNITS
+        readers: dict[int, set[int]] = {}
         for u in self.units:
             for d in u.deps:
-                self.units[d].readers.add(u.index)
+                readers.setdefault(d, set()).add(u.index)
+        for u in self.units:
+            u.readers = readers.get(u.index, _NO_UNITS)
 
     def _order(self) -> None:
         """Depths by Kahn's algorithm. Units on a cycle (a run reading its own cells
@@ -322,8 +328,8 @@ class Plan:
         for i in in_order:
             u = self.units[i]
             u.sequential = True
-            u.deps.discard(i)
-            u.readers.discard(i)
+            u.deps = u.deps - {i}
+            u.readers = u.readers - {i}
         if in_order:
             stuck = self._depths()
             if not stuck:
@@ -344,9 +350,9 @@ class Plan:
             for i in comp:
                 self.units[i].problem = self.units[i].problem or "circular reference"
         for i in cyclic:
-            self.units[i].deps = set()
+            self.units[i].deps = _NO_UNITS
         for i in cyclic:  # read with cached values: no longer waiting for each other
-            self.units[i].readers -= cyclic
+            self.units[i].readers = self.units[i].readers - cyclic
         self._depths()
 
     def _depths(self) -> set[int]:
@@ -376,8 +382,8 @@ class Plan:
         for u in keep:
             self._add(u)
         for u in parts:
-            for cell in u.cells:
-                self._add(Unit(u.sheet, [cell], u.structure, u.anchor, problem=u.problem))
+            for cell in u.cells:  # an array formula is one cell and keeps its span
+                self._add(Unit(u.sheet, [cell], u.structure, u.anchor, u.span, problem=u.problem))
         self._link()
 
 

@@ -23,6 +23,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import cache
 from typing import Any
 
 from udfs.xlsx.formula_text import Area, Token, TokenizeError, tokenize
@@ -127,6 +128,12 @@ def relative_text(text: str, row: int, col: int) -> str:
     return _REL.sub(swap, text)
 
 
+@cache
+def _slot_name(prefix: str, i: int) -> str:
+    """``_R3``, ``_K0``: one string for each name, shared by every structure."""
+    return f"{prefix}{i}"
+
+
 @dataclass
 class _Build:
     """Placeholders collected while one formula is rewritten."""
@@ -143,12 +150,12 @@ class _Build:
         for r in self.refs:
             if r.sheet == sheet and r.area == area and r.kind == kind:
                 return r.name
-        name = f"_R{len(self.refs)}"
+        name = _slot_name("_R", len(self.refs))
         self.refs.append(RefSlot(name, sheet, area, kind))
         return name
 
     def const(self, value: Any) -> str:
-        name = f"_K{len(self.consts)}"
+        name = _slot_name("_K", len(self.consts))
         self.consts.append((name, value))
         return name
 

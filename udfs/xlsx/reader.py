@@ -313,13 +313,14 @@ class _SheetReader:
         t = attrs.get("t", "n")
         value = self._number() if t == "n" else self._value(t)
         f = self.f
-        formula = None if f is None else self._formula(f, self.f_text or "", row, col, value)
+        pos = (row, col)  # one tuple: the key and a formula's anchor
+        formula = None if f is None else self._formula(f, self.f_text or "", pos, value)
         if formula is not None:
-            sheet.formulas[(row, col)] = formula
+            sheet.formulas[pos] = formula
             if formula.span is not None:
                 _extend(sheet, formula.span[2], formula.span[3])
         elif value is not None:
-            sheet.values[(row, col)] = value
+            sheet.values[pos] = value
         else:
             return
         _extend(sheet, row, col)
@@ -380,14 +381,15 @@ class _SheetReader:
         return self._number()
 
     def _formula(
-        self, f: dict[str, str], text: str, row: int, col: int, cached: CellValue
+        self, f: dict[str, str], text: str, pos: tuple[int, int], cached: CellValue
     ) -> FormulaCell | None:
         book = self.book
+        row, col = pos
         kind = f.get("t", "normal")
         if kind == "shared":
             si = f.get("si", "")
             if text:
-                master = FormulaCell("=" + text, (row, col), "shared", cached=cached)
+                master = FormulaCell("=" + text, pos, "shared", cached=cached)
                 self.shared[si] = master
             elif si in self.shared:
                 m = self.shared[si]
@@ -400,7 +402,7 @@ class _SheetReader:
             return master
         if not text and kind != "dataTable":
             return None
-        cell = FormulaCell("=" + text, (row, col), kind, cached=cached)
+        cell = FormulaCell("=" + text, pos, kind, cached=cached)
         if kind != "array":
             book.count_formula(text, self.sheet.name)
             return cell

@@ -30,7 +30,7 @@ from .guard import Limits
 from .package import Package
 from .reader import read_workbook
 from .refs import CellRef, col_index, quote_sheet
-from .writer import Edit, apply_edits, assemble, escape, package_bytes, text_of
+from .writer import Edit, NewPart, apply_edits, assemble, escape, package_bytes, text_of
 
 __all__ = [
     "ABOUT_SHEET",
@@ -181,7 +181,7 @@ def _free_part(pkg: Package, stem: str) -> str:
 
 
 def label_parts(
-    pkg: Package, about: str, formulas: str, parts: dict[str, bytes | None]
+    pkg: Package, about: str, formulas: str, parts: dict[str, NewPart]
 ) -> dict[str, bytes]:
     """Add the two sheets (About first, formulas hidden last) and the marker name to the
     workbook part, its relationships and the content types; returns the new parts."""
@@ -272,7 +272,7 @@ def restore_edits(
     return out
 
 
-def unlabel_parts(pkg: Package, parts: dict[str, bytes | None]) -> None:
+def unlabel_parts(pkg: Package, parts: dict[str, NewPart]) -> None:
     """Take the About and formulas sheets and the marker name out again (into ``parts``)."""
     wb = text_of(parts, pkg, pkg.workbook_part)
     rels = pkg.relationships(pkg.workbook_part)
@@ -344,7 +344,7 @@ def restored(data: bytes, name: str, limits: Limits) -> bytes | None:
         for (r, c), v in s.values.items():
             values_at[CellRef(s.name, r, c)] = v
     edits = restore_edits(rows, values_at)
-    parts: dict[str, bytes | None] = {}
+    parts: dict[str, NewPart] = {}
     apply_edits(book.package, edits, parts)
     unlabel_parts(book.package, parts)
     return package_bytes(lambda out: assemble(book.package, parts, {}, out))

@@ -31,9 +31,9 @@ import math
 import re
 import shutil
 import zipfile
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from dataclasses import dataclass
-from typing import BinaryIO
+from typing import IO, BinaryIO
 
 from udfs.sheet.error_values import CellValue, SheetError
 
@@ -45,6 +45,7 @@ __all__ = [
     "CALC_ID",
     "KEEP",
     "Edit",
+    "NewPart",
     "SheetEdits",
     "escape",
     "package_bytes",
@@ -52,6 +53,10 @@ __all__ = [
     "write_live",
     "write_values",
 ]
+
+#: A part as it will be written: new bytes, text pieces streamed as they are made (a
+#: patched sheet), or None (left out). Parts not in the mapping are copied unchanged.
+NewPart = bytes | Iterator[str] | None
 
 #: The calculation-engine id current Excel versions write (from memory; an older id
 #: makes Excel recalculate every formula on open, a newer one is the same as current).
@@ -84,7 +89,7 @@ _FORMULA = re.compile(
 _VALUE = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)v\b[^>]*(?:/>|>(?P<text>.*?)</(?P=p)v>)", re.S)
 _EXTLST = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)extLst\b.*?</(?P=p)extLst>", re.S)
 _CALCPR = re.compile(r"<(?P<p>(?:[A-Za-z_][\w.-]*:)?)calcPr\b" + _ATTRS + r"/?>", re.S)
-_PROLOG_ENCODING = re.compile(r"^(<\?xml[^>]*?encoding=)([\"'])[^\"']*\2")
+_PROLOG_ENCODING = re.compile(r"(<\?xml[^>]*?encoding=)([\"'])([^\"']*)\2")
 _REF = re.compile(r"^([A-Z]{1,3})([0-9]+)$")
 
 
@@ -323,8 +328,9 @@ def patch_sheet(xml: str, edits: Mapping[tuple[int, int], Edit]) -> str:
     return "".join(_patched(xml, edits))
 
 
-def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> list[str]:
-    """The pieces of the sheet XML with ``edits`` made, in order.
+def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> Iterator[str]:
+    """The pieces of the sheet XML with ``edits`` made, in order, made as they are
+    taken (a sheet is streamed into the package, never held whole once patched).
 
     One pass over the rows up to the last edited one: rows without edits are
     copied as slices of the text (never parsed into cells), and everything after
@@ -333,9 +339,14 @@ def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> list[str]:
     the edited rows, not the size of the sheet.
     """
     found = _sheet_data(xml)
-    if found is None:
+    if found is None:  # refused here, before anything is written
         raise WorkbookError("damaged sheet: no sheetData")
-    m, end_tag = found
+    return _pieces(xml, edits, *found)
+
+
+def _pieces(
+    xml: str, edits: Mapping[tuple[int, int], Edit], m: re.Match[str], end_tag: int | None
+) -> Iterator[str]:
     p = m.group("p")
     keys = sorted(edits)
     j = 0
@@ -351,11 +362,14 @@ def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> list[str]:
 
     if end_tag is None:  # <sheetData/>
         head, start, end = f"<{p}sheetData{m.group('attrs')}>", m.end(), m.end()
-        parts, close = [xml[: m.start()], head], f"</{p}sheetData>"
+        close = f"</{p}sheetData>"
+        yield xml[: m.start()]
+        yield head
     else:
         start, end = m.end(), end_tag
-        parts, close = [xml[:start]], ""
-    copied = start  # xml[start:copied] is in parts
+        close = ""
+        yield xml[:start]
+    copied = start  # xml[start:copied] is written
     number = 0
     for rm in _ROW.finditer(xml, start, end):
         if j == len(keys):
@@ -363,29 +377,28 @@ def _patched(xml: str, edits: Mapping[tuple[int, int], Edit]) -> list[str]:
         number = _row_number(rm, number)
         if keys[j][0] > number:
             continue  # copied later, with its neighbours, as one slice
-        parts.append(xml[copied : rm.start()])
+        yield xml[copied : rm.start()]
         while j < len(keys) and keys[j][0] < number:  # new rows before this one
             n = keys[j][0]
-            parts.append(_row_xml(p, f' r="{n}"', n, "", take(n)))
+            yield _row_xml(p, f' r="{n}"', n, "", take(n))
         if j < len(keys) and keys[j][0] == number:
             body = rm.group("body") or ""
-            parts.append(_row_xml(rm.group("p"), rm.group("attrs"), number, body, take(number)))
+            yield _row_xml(rm.group("p"), rm.group("attrs"), number, body, take(number))
         else:
-            parts.append(rm.group(0))
+            yield rm.group(0)
         copied = rm.end()
     if j < len(keys):  # rows after the sheet's last row, before any text after the rows
         tail_at = copied
         for rm in _ROW.finditer(xml, copied, end):
             tail_at = rm.end()
-        parts.append(xml[copied:tail_at])
+        yield xml[copied:tail_at]
         while j < len(keys):
             n = keys[j][0]
-            parts.append(_row_xml(p, f' r="{n}"', n, "", take(n)))
+            yield _row_xml(p, f' r="{n}"', n, "", take(n))
         copied = tail_at
-    parts.append(xml[copied:end])
-    parts.append(close)
-    parts.append(xml[end:])
-    return parts
+    yield xml[copied:end]
+    yield close
+    yield xml[end:]
 
 
 def _patch_calc_pr(xml: str) -> str:
@@ -399,7 +412,7 @@ def _patch_calc_pr(xml: str) -> str:
     return _CALCPR.sub(fix, xml, count=1)
 
 
-def drop_calc_chain(parts: dict[str, bytes | None], pkg: Package) -> None:
+def drop_calc_chain(parts: dict[str, NewPart], pkg: Package) -> None:
     """Leave out the calculation chain (an optional cache Excel rebuilds)."""
     chain = next(
         (t for rt, t, _ in pkg.relationships(pkg.workbook_part).values() if rt == "/calcChain"),
@@ -424,12 +437,14 @@ def drop_calc_chain(parts: dict[str, bytes | None], pkg: Package) -> None:
     parts[rels_name] = rels.encode("utf-8")
 
 
-def text_of(parts: Mapping[str, bytes | None], pkg: Package, part: str) -> str:
+def text_of(parts: Mapping[str, NewPart], pkg: Package, part: str) -> str:
     """A part's text as it will be written (changed earlier, or as in the package);
     UTF-16 parts are read and written back as UTF-8 with a matching declaration."""
     raw = parts.get(part)
     if raw is None:
         raw = pkg.zip.read(part)
+    elif not isinstance(raw, bytes):
+        raise TypeError(f"{part} is streamed as it is written; its text cannot be read back")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
@@ -437,13 +452,17 @@ def text_of(parts: Mapping[str, bytes | None], pkg: Package, part: str) -> str:
             text = raw.decode("utf-16")
         except UnicodeDecodeError:
             raise WorkbookError(f"damaged part {part}: not UTF-8 or UTF-16 text") from None
+    del raw  # a large sheet: its bytes, its text and a copy would be held at once
     text = text.lstrip("\ufeff")
-    return _PROLOG_ENCODING.sub(r"\1\2UTF-8\2", text, count=1)
+    found = _PROLOG_ENCODING.match(text)
+    if found is None or found.group(3).upper() == "UTF-8":
+        return text  # no copy of the whole text when the declaration is already right
+    return f"{found.group(1)}{found.group(2)}UTF-8{found.group(2)}{text[found.end():]}"
 
 
 def assemble(
     pkg: Package,
-    parts: Mapping[str, bytes | None],
+    parts: Mapping[str, NewPart],
     extra: Mapping[str, bytes],
     out: BinaryIO,
 ) -> None:
@@ -457,8 +476,12 @@ def assemble(
             zi = zipfile.ZipInfo(info.filename, date_time=info.date_time)
             zi.compress_type = zipfile.ZIP_DEFLATED
             zi.external_attr = info.external_attr
-            if data is not None:
+            if isinstance(data, bytes):
                 zf.writestr(zi, data)
+                continue
+            if data is not None:
+                with zf.open(zi, "w") as dst:
+                    _write_utf8(data, dst)
                 continue
             zi.file_size = info.file_size  # lets zipfile choose its record format up front
             with pkg.zip.open(info) as src, zf.open(zi, "w") as dst:
@@ -481,18 +504,23 @@ def package_bytes(write: Callable[[BinaryIO], None]) -> bytes:
     return buf.getvalue()
 
 
-def _utf8(pieces: list[str]) -> bytes:
-    """The pieces' text in UTF-8, each piece let go once encoded (a large sheet is never
-    held as text and as bytes at once)."""
-    buf = io.BytesIO()
-    for i, piece in enumerate(pieces):
-        buf.write(piece.encode("utf-8"))
-        pieces[i] = ""
-    return buf.getvalue()
+def _write_utf8(pieces: Iterable[str], out: IO[bytes], batch: int = 1 << 20) -> None:
+    """Write the pieces' text as UTF-8, about ``batch`` characters at a time (a patched
+    sheet is never held whole, as text or as bytes)."""
+    held: list[str] = []
+    size = 0
+    for piece in pieces:
+        held.append(piece)
+        size += len(piece)
+        if size >= batch:
+            out.write("".join(held).encode("utf-8"))
+            held.clear()
+            size = 0
+    out.write("".join(held).encode("utf-8"))
 
 
 def apply_edits(
-    pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits, parts: dict[str, bytes | None]
+    pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits, parts: dict[str, NewPart]
 ) -> None:
     """Make ``edits`` (by cell reference, or grouped by sheet) in the sheets' XML (into
     ``parts``)."""
@@ -500,7 +528,7 @@ def apply_edits(
     for sheet in pkg.worksheets():
         cells = by_sheet.get(sheet.name)
         if cells:
-            parts[sheet.part] = _utf8(_patched(text_of(parts, pkg, sheet.part), cells))
+            parts[sheet.part] = _patched(text_of(parts, pkg, sheet.part), cells)
 
 
 def write_live(
@@ -508,7 +536,7 @@ def write_live(
 ) -> None:
     """Write to ``out`` the workbook with every formula kept and the ``edits`` (cached
     values, set inputs) made; calculation settings that show the stored values on open."""
-    parts: dict[str, bytes | None] = {}
+    parts: dict[str, NewPart] = {}
     apply_edits(pkg, edits, parts)
     parts[pkg.workbook_part] = _patch_calc_pr(text_of(parts, pkg, pkg.workbook_part)).encode(
         "utf-8"
@@ -520,7 +548,7 @@ def write_values(
     pkg: Package,
     edits: Mapping[CellRef, Edit] | SheetEdits,
     out: BinaryIO,
-    parts: dict[str, bytes | None] | None = None,
+    parts: dict[str, NewPart] | None = None,
     extra: Mapping[str, bytes] | None = None,
 ) -> None:
     """Write to ``out`` the workbook with the ``edits`` made (formulas removed where they
