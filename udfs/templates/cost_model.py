@@ -718,7 +718,7 @@ def _range_check(key: str, r: int, domain_inp: Input) -> str:
             f'"the range leaves {leaves}"))))')
 
 
-def _build_risk(wb: Workbook, ins: _Inputs, cost: _Cost) -> None:
+def _build_risk(wb: Workbook, ins: _Inputs, cost: _Cost, n_samples: int) -> None:
     ws = wb.create_sheet("Risk")
     k = len(RISK_INPUTS)
     widths = {"A": 6.0, "B": 30.0, "C": 16.0, "D": 14.0, "E": 14.0, "F": 14.0, "G": 14.0,
@@ -726,7 +726,7 @@ def _build_risk(wb: Workbook, ins: _Inputs, cost: _Cost) -> None:
     w = SheetWriter(wb, ws, Columns(label="B", value="C", unit="D", note="E"), widths)
     w.title("Risk: ranges, percentiles, histogram and tornado",
             f"Each uncertain input varies from low to high around its value in use; "
-            f"{RISK_SAMPLES:,} seeded samples (CW_RANGE_SAMPLE: the core's own draws for the "
+            f"{n_samples:,} seeded samples (CW_RANGE_SAMPLE: the core's own draws for the "
             "same seed and input) run through the equations of the Cost sheet.")
     w.caution(COST_CAUTION, span=8, height=30.0)
     w.value("Price book", "=out_book_label", "", kind="lookup")
@@ -828,8 +828,8 @@ def _build_risk(wb: Workbook, ins: _Inputs, cost: _Cost) -> None:
                                   for n in value_cols})
         swing[name] = (r, r + 1)
         r += 2
-    s_first, s_last = r, r + RISK_SAMPLES - 1
-    for i in range(RISK_SAMPLES):
+    s_first, s_last = r, r + n_samples - 1
+    for i in range(n_samples):
         ws[f"A{s_first + i}"] = i + 1
         table.write(ws, s_first + i)
     for name, c in value_cols.items():
@@ -932,7 +932,7 @@ def _build_risk(wb: Workbook, ins: _Inputs, cost: _Cost) -> None:
                      "samples", "0", PALETTE["lookup_ink"], (8.0, 15.0))
     hist.gapWidth = 5
     hist.x_axis.title = "full cost, USD/kWh (middle of the bin)"
-    heading(ws[f"G{h0 - 1}"], f"Histogram of the {RISK_SAMPLES:,} samples")
+    heading(ws[f"G{h0 - 1}"], f"Histogram of the {n_samples:,} samples")
     ws.add_chart(hist, f"G{h0}")
     finish_sheet(ws, landscape=True)
 
@@ -1133,13 +1133,15 @@ def _notes(wb: Workbook) -> None:
     write_notes(wb, "Notes: method, sources and cautions", method, cautions, live)
 
 
-def build_cost_model() -> Workbook:
-    """The cost template as a new openpyxl workbook."""
+def build_cost_model(n_samples: int = RISK_SAMPLES) -> Workbook:
+    """The cost template as a new openpyxl workbook, with ``n_samples`` Monte Carlo rows
+    on the Risk sheet (the shipped template has RISK_SAMPLES; fewer give the same
+    formulas on fewer rows)."""
     wb = Workbook()
     ins = _build_inputs(wb)
     inputs = _build_design(wb)
     cost = _build_cost(wb, ins, inputs)
-    _build_risk(wb, ins, cost)
+    _build_risk(wb, ins, cost, n_samples)
     _build_compare(wb, ins, cost)
     _notes(wb)
     write_lists(wb)
