@@ -457,7 +457,9 @@ class Evaluator:
             if all(x is first or _same(x, first) for x in column):
                 stacked.append(first)
                 continue
-            if any(isinstance(x, np.ndarray) for x in column):
+            if not all(type(x) is float for x in column) and any(
+                isinstance(x, np.ndarray) for x in column
+            ):
                 return False  # a range that moves with the cell: cell by cell
             arr = np.empty((len(column), 1), dtype=object)
             arr[:, 0] = column
@@ -477,10 +479,15 @@ class Evaluator:
             return False
         else:
             flat = [result] * n
+        values, messages = run.values, run.messages
         for i, ((u, cell), value) in enumerate(zip(cells, flat, strict=True)):
             key = (u.sheet, cell[0], cell[1])
+            if type(value) is float:  # most cells: nothing to settle, no message
+                values[key] = value
+                messages.pop(key, None)
+                continue
             settled = _settle(value)
-            run.values[key] = settled
+            values[key] = settled
             self._message(key, settled, box.items, i, run)
         return True
 
