@@ -69,25 +69,6 @@ class Structure:
     references: bool = False  # some function reads references, not values
     dynamic: bool = False  # OFFSET/INDIRECT: reads cells no reference names
 
-    def relative_key(self, row: int, col: int) -> tuple[Any, ...]:
-        """What two cells must share to be filled from one formula."""
-        parts: list[Any] = [self.text]
-        for r in self.refs:
-            a = r.area
-            parts.append(
-                (
-                    r.sheet,
-                    r.kind,
-                    a.r1 if a.abs_r1 else a.r1 - row,
-                    a.c1 if a.abs_c1 else a.c1 - col,
-                    a.r2 if a.abs_r2 else a.r2 - row,
-                    a.c2 if a.abs_c2 else a.c2 - col,
-                    a.abs_r1, a.abs_c1, a.abs_r2, a.abs_c2, a.kind,
-                )
-            )
-        parts.extend(self.consts)
-        return tuple(parts)
-
 
 _REL = re.compile(
     r"\"(?:[^\"]|\"\")*\"|'(?:[^']|'')*'"  # strings and quoted sheet names: kept as they are

@@ -16,7 +16,6 @@ package's job in the engine.
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator
 from typing import NamedTuple
 
 from .refs import MAX_COL, MAX_ROW, col_index, col_letters
@@ -197,11 +196,6 @@ def _quote(sheet: str) -> str:
     return "'" + sheet.replace("'", "''") + "'"
 
 
-def tokens_text(tokens: list[Token]) -> str:
-    """Formula text (with "=") from tokens."""
-    return "=" + "".join(t.text for t in tokens)
-
-
 def shift_formula(text: str, dr: int, dc: int) -> str:
     """``text`` as it reads when copied ``dr`` rows down and ``dc`` columns right
     (relative references move, ``$`` parts stay; off the sheet becomes #REF!)."""
@@ -218,10 +212,3 @@ def shift_formula(text: str, dr: int, dc: int) -> str:
             out.append(tok.text)
     return "=" + "".join(out)
 
-
-def iter_refs(tokens: list[Token]) -> Iterator[Token]:
-    """The reference tokens."""
-    return (t for t in tokens if t.kind == "ref")
-
-
-__all__ += ["iter_refs", "tokens_text"]

@@ -204,7 +204,6 @@ class Package:
         self.sheets: list[SheetEntry] = []
         self.defined_names: list[DefinedName] = []
         self.invalid_names: list[str] = []  # defined names that are not names: never used
-        self.has_calc_pr = False
         self.iterate = False  # calcPr asks for iterative calculation
         self._types: tuple[dict[str, str], dict[str, str]] | None = None
 
@@ -389,7 +388,6 @@ class Package:
                     )
                 )
             elif tag == "calcPr":
-                self.has_calc_pr = True
                 self.iterate = el.get("iterate") in ("1", "true")
         if not self.sheets:
             raise WorkbookError(f"{self.name}: the workbook has no sheets")
