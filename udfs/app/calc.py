@@ -62,7 +62,6 @@ __all__ = [
     "open_model",
     "prepare_output",
     "write_evaluation",
-    "write_evaluation_to",
     "write_prepared",
 ]
 
@@ -213,8 +212,8 @@ def _listed_inputs(
 
 
 def evaluation_bytes(model: WorkbookModel, evaluation: Evaluation, mode: str = "live") -> bytes:
-    """:func:`write_evaluation_to`, in memory."""
-    return package_bytes(lambda out: write_evaluation_to(model, evaluation, out, mode))
+    """The copy :func:`prepare_output` prepares, in memory."""
+    return package_bytes(prepare_output(model, evaluation, mode).write_to)
 
 
 @dataclass
@@ -276,13 +275,6 @@ def prepare_output(
     return PreparedOutput(model.package, edits, mode, parts, dict(extra))
 
 
-def write_evaluation_to(
-    model: WorkbookModel, evaluation: Evaluation, out: BinaryIO, mode: str = "live"
-) -> None:
-    """Write to ``out`` the copy :func:`prepare_output` prepares."""
-    prepare_output(model, evaluation, mode).write_to(out)
-
-
 def write_prepared(
     prepared: PreparedOutput,
     out: StrPath,
@@ -305,7 +297,8 @@ def write_evaluation(
     mode: str = "live",
     inputs: tuple[StrPath, ...] = (),
 ) -> Path:
-    """:func:`write_evaluation_to` the file ``out``, atomically (never over ``inputs``)."""
+    """Write the copy :func:`prepare_output` prepares to the file ``out``, atomically
+    (never over ``inputs``)."""
     check_output_suffix(model, out)
     return write_prepared(prepare_output(model, evaluation, mode), out, force=force, inputs=inputs)
 
