@@ -114,8 +114,9 @@ def test_stacked_equals_element_by_element(name, data):
 #: must leave to the package (booleans, text, empty, errors); common practice
 EDGES = [
     0.0, -0.0, 1.0, -2.5, 0.1, 3.0, 1e308, -1e308, 5e-324, 1e-300, 3, -7, 0, 2**53, 2**53 + 1,
-    True, "2", sh.EMPTY, Error.errors["#DIV/0!"],
+    True, "2", "abc", "ABC", "Straße", "STRASSE", "", sh.EMPTY, Error.errors["#DIV/0!"],
 ]
+TEXTS = [x for x in EDGES if type(x) is str]
 FLOATS = [x for x in EDGES if type(x) is float]
 
 
@@ -131,19 +132,20 @@ def _exactly(a, b) -> bool:
 @pytest.mark.parametrize("name", ["+", "-", "*", "/", "u-", "=", "<>", "<", ">", "<=", ">="])
 @given(data=st.data())
 def test_operators_on_numbers_give_exactly_what_the_package_gives(name, data):
-    # program runs these operators directly on finite numbers (one numpy call for a
-    # column); the package's own compiled formula is the reference, element by element
+    # program runs these operators directly on finite numbers, and = and <> on texts
+    # (one numpy call for a column); the package's own compiled formula is the
+    # reference, element by element
     text = _text(name)
     p = program(text)
     compiled = formulas.Parser().ast(text)[1].compile()
     n = data.draw(st.integers(2, 5))
     args = []
     for _ in p.inputs:
-        kind = data.draw(st.sampled_from(["one", "floats", "mixed"]))
+        kind = data.draw(st.sampled_from(["one", "floats", "texts", "mixed"]))
         if kind == "one":
             args.append(data.draw(st.sampled_from(EDGES)))
             continue
-        pool = FLOATS if kind == "floats" else EDGES
+        pool = {"floats": FLOATS, "texts": TEXTS, "mixed": EDGES}[kind]
         arr = np.empty((n, 1), dtype=object)
         arr[:, 0] = [data.draw(st.sampled_from(pool)) for _ in range(n)]
         args.append(arr)

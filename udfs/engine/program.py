@@ -8,10 +8,10 @@ functions on the same arguments as the package's compiled formula, without a
 dispatcher per call (measured on the cell-sizing template: about 10 us per
 step here against about 60 us through the compiled formula).
 
-Operators on finite numbers (``+ - * /``, negation, comparisons) are computed
-directly, a whole column in one numpy call (:func:`_on_numbers`: what the
-package computes, without its checks per element); anything else goes to the
-package's operator.
+Operators on finite numbers (``+ - * /``, negation, comparisons) and the
+equality of texts are computed directly, a whole column in one numpy call
+(:func:`_on_numbers`, :func:`_on_texts`: what the package computes, without its
+checks per element); anything else goes to the package's operator.
 
 The same program runs a single cell or a whole block of cells at once when its
 inputs are stacked in columns: that is exact when every step that sees a
@@ -145,6 +145,8 @@ class Program:
             args = [regs[i] for i in ins]
             op = _ON_NUMBERS.get(name)
             got = None if op is None else _on_numbers(op, args)
+            if got is None and op is not None and name in _TEXT_EQUALITY:
+                got = _on_texts(op, args)
             regs[out] = func(*args) if got is None else got
         result = regs[self.root]
         return result.value if isinstance(result, Ranges) else result
@@ -202,9 +204,12 @@ def _on_numbers(op: Callable[..., Any], args: list[Any]) -> Any:
         elif isinstance(a, np.ndarray) and a.dtype == object:
             if a.ndim == 0:
                 v = a[()]
-                if type(v) is not float:
+                if type(v) is float:
+                    plain.append(v)
+                elif type(v) is int and -_EXACT_INT <= v <= _EXACT_INT:
+                    plain.append(float(v))
+                else:
                     return None
-                plain.append(v)
             elif (shape is None or a.shape == shape) and all(type(v) is float for v in a.flat):
                 shape = a.shape
                 plain.append(a.astype(float))
@@ -229,6 +234,44 @@ def _on_numbers(op: Callable[..., Any], args: list[Any]) -> Any:
     if r.dtype != bool and not np.isfinite(r).all():
         return None
     return r.astype(object).view(Array)
+
+
+_TEXT_EQUALITY = frozenset({"=", "<>"})
+
+
+def _on_texts(op: Callable[..., Any], args: list[Any]) -> Any:
+    """``=`` or ``<>`` of texts, compared as the package compares two texts (both
+    upper-cased: Excel's comparison ignores case), or None for anything else.
+
+    About 300 of the cell-sizing template's steps compare a text input with a name
+    ("cylindrical", "graphite"); measured there: warm re-evaluation after one input change
+    45 -> 39 ms, its sweep 73 -> 87 scenarios/s.
+
+    >>> _on_texts(operator.eq, ["Stack", "STACK"]).item(), _on_texts(operator.eq, ["1", 1.0])
+    (True, None)
+    """
+    upper: list[Any] = []
+    shape: tuple[int, ...] | None = None
+    for a in args:
+        if isinstance(a, np.ndarray) and a.dtype == object and a.ndim == 0:
+            a = a[()]
+        if type(a) is str:
+            upper.append(a.upper())
+        elif (
+            isinstance(a, np.ndarray)
+            and a.dtype == object
+            and (shape is None or a.shape == shape)
+            and all(type(v) is str for v in a.flat)
+        ):
+            shape = a.shape
+            column = np.empty(a.shape, dtype=object)
+            column.flat[:] = [v.upper() for v in a.flat]
+            upper.append(column)
+        else:
+            return None
+    if shape is None:
+        return np.asarray(op(*upper), dtype=object).view(Array)
+    return np.asarray(op(*upper), dtype=bool).astype(object).view(Array)
 
 
 def program(text: str) -> Program:
