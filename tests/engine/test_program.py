@@ -114,7 +114,7 @@ def test_stacked_equals_element_by_element(name, data):
 #: must leave to the package (booleans, text, empty, errors); common practice
 EDGES = [
     0.0, -0.0, 1.0, -2.5, 0.1, 3.0, 1e308, -1e308, 5e-324, 1e-300, 3, -7, 0, 2**53, 2**53 + 1,
-    True, "2", "abc", "ABC", "Straße", "STRASSE", "", sh.EMPTY, Error.errors["#DIV/0!"],
+    True, False, "2", "abc", "ABC", "Straße", "STRASSE", "", sh.EMPTY, Error.errors["#DIV/0!"],
 ]
 TEXTS = [x for x in EDGES if type(x) is str]
 FLOATS = [x for x in EDGES if type(x) is float]
@@ -129,23 +129,25 @@ def _exactly(a, b) -> bool:
     return _same(a, b)
 
 
-@pytest.mark.parametrize("name", ["+", "-", "*", "/", "u-", "=", "<>", "<", ">", "<=", ">="])
+@pytest.mark.parametrize(
+    "name", ["+", "-", "*", "/", "u-", "=", "<>", "<", ">", "<=", ">=", "IF", "IF2"]
+)
 @given(data=st.data())
 def test_operators_on_numbers_give_exactly_what_the_package_gives(name, data):
-    # program runs these operators directly on finite numbers, and = and <> on texts
-    # (one numpy call for a column); the package's own compiled formula is the
-    # reference, element by element
-    text = _text(name)
+    # program runs these operators directly on finite numbers, = and <> on texts, and
+    # IF on TRUE/FALSE conditions (one numpy call for a column); the package's own
+    # compiled formula is the reference, element by element
+    text = "=IF(_R0,_R1)" if name == "IF2" else _text(name)
     p = program(text)
     compiled = formulas.Parser().ast(text)[1].compile()
     n = data.draw(st.integers(2, 5))
     args = []
     for _ in p.inputs:
-        kind = data.draw(st.sampled_from(["one", "floats", "texts", "mixed"]))
+        kind = data.draw(st.sampled_from(["one", "floats", "texts", "logical", "mixed"]))
         if kind == "one":
             args.append(data.draw(st.sampled_from(EDGES)))
             continue
-        pool = {"floats": FLOATS, "texts": TEXTS, "mixed": EDGES}[kind]
+        pool = {"floats": FLOATS, "texts": TEXTS, "logical": [True, False], "mixed": EDGES}[kind]
         arr = np.empty((n, 1), dtype=object)
         arr[:, 0] = [data.draw(st.sampled_from(pool)) for _ in range(n)]
         args.append(arr)

@@ -8,10 +8,11 @@ functions on the same arguments as the package's compiled formula, without a
 dispatcher per call (measured on the cell-sizing template: about 10 us per
 step here against about 60 us through the compiled formula).
 
-Operators on finite numbers (``+ - * /``, negation, comparisons) and the
-equality of texts are computed directly, a whole column in one numpy call
-(:func:`_on_numbers`, :func:`_on_texts`: what the package computes, without its
-checks per element); anything else goes to the package's operator.
+Operators on finite numbers (``+ - * /``, negation, comparisons), the equality
+of texts and IF on TRUE/FALSE conditions are computed directly, a whole column in
+one numpy call (:func:`_on_numbers`, :func:`_on_texts`, :func:`_on_choice`: what
+the package computes, without its checks per element); anything else goes to the
+package's function.
 
 The same program runs a single cell or a whole block of cells at once when its
 inputs are stacked in columns: that is exact when every step that sees a
@@ -144,9 +145,12 @@ class Program:
         for out, func, ins, name in self._steps:
             args = [regs[i] for i in ins]
             op = _ON_NUMBERS.get(name)
-            got = None if op is None else _on_numbers(op, args)
-            if got is None and op is not None and name in _TEXT_EQUALITY:
-                got = _on_texts(op, args)
+            if op is not None:
+                got = _on_numbers(op, args)
+                if got is None and name in _TEXT_EQUALITY:
+                    got = _on_texts(op, args)
+            else:
+                got = _on_choice(args) if name == "IF" else None
             regs[out] = func(*args) if got is None else got
         result = regs[self.root]
         return result.value if isinstance(result, Ranges) else result
@@ -272,6 +276,58 @@ def _on_texts(op: Callable[..., Any], args: list[Any]) -> Any:
     if shape is None:
         return np.asarray(op(*upper), dtype=object).view(Array)
     return np.asarray(op(*upper), dtype=bool).astype(object).view(Array)
+
+
+def _on_choice(args: list[Any]) -> Any:
+    """``IF(condition, x, y)`` when every condition is TRUE or FALSE, as the package
+    chooses (``x if condition else y`` element by element, ``y`` FALSE when left out),
+    or None for anything else (a condition that is a number, text, empty or an error;
+    an empty ``x`` or ``y``, which the package reads as 0; columns of different shapes).
+
+    Measured: warm re-evaluation of the 15,000-cell filled-down benchmark workbook (an IF
+    over 3,000 cells) 49.5 -> 41.7 ms; the sweep of the cell-sizing template (115 IFs a
+    scenario) 89 -> 102 scenarios/s.
+
+    >>> _on_choice([True, "yes", 2.0]).item(), _on_choice([1.0, "yes", 2.0])
+    ('yes', None)
+    """
+    if len(args) == 2:
+        args = [*args, False]
+    if len(args) != 3:
+        return None
+    values: list[Any] = []
+    shape: tuple[int, ...] | None = None
+    for a in args:
+        if isinstance(a, np.ndarray) and a.dtype == object and a.ndim == 0:
+            a = a[()]
+        if isinstance(a, np.ndarray):
+            if a.dtype != object or (shape is not None and a.shape != shape):
+                return None
+            if any(v is sh.EMPTY for v in a.flat):
+                return None
+            shape = a.shape
+        elif isinstance(a, Ranges) or a is sh.EMPTY:
+            return None
+        values.append(a)
+    cond, x, y = values
+    if shape is None:
+        if type(cond) is not bool:
+            return None
+        chosen = x if cond else y
+        out = np.empty((), dtype=object)
+        out[()] = chosen
+        return out.view(Array)
+    if isinstance(cond, np.ndarray):
+        if not all(type(v) is bool for v in cond.flat):
+            return None
+    elif type(cond) is not bool:
+        return None
+    picked = np.where(
+        np.asarray(cond, dtype=bool),
+        np.broadcast_to(np.asarray(x, dtype=object), shape),
+        np.broadcast_to(np.asarray(y, dtype=object), shape),
+    )
+    return picked.astype(object).view(Array)
 
 
 def program(text: str) -> Program:
