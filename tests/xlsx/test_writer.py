@@ -266,3 +266,33 @@ def test_values_only_copy_is_labelled_and_calc_restores_its_formulas(tmp_path):
     assert back["S"]["A2"].value == "=CW_TEST_TRIPLE(A1)" and back["S"]["A3"].value == "=A2+1"
     values = openpyxl.load_workbook(again, data_only=True)["S"]
     assert values["A2"].value == _triple(5.0) and values["A3"].value == _triple(5.0) + 1
+
+
+def test_a_sheet_without_its_cell_table_is_refused_and_no_file_is_left(tmp_path):
+    # sheets are patched as the package is written (streamed): a damaged one still ends
+    # the write with one reason, and the atomic writer leaves nothing behind
+    import io
+
+    from udfs.xlsx.files import atomic_writer
+    from udfs.xlsx.package import Package
+    from udfs.xlsx.refs import CellRef
+    from udfs.xlsx.writer import write_live
+
+    wb = openpyxl.Workbook()
+    wb.active.title = "S"
+    wb.active["A1"] = 1.0
+    buf = io.BytesIO()
+    wb.save(buf)
+    damaged = io.BytesIO()
+    with zipfile.ZipFile(buf) as src, zipfile.ZipFile(damaged, "w") as dst:
+        for info in src.infolist():
+            data = src.read(info)
+            if info.filename == "xl/worksheets/sheet1.xml":
+                data = re.sub(rb"<sheetData>.*</sheetData>|<sheetData/>", b"", data)
+            dst.writestr(info, data)
+    pkg = Package(damaged.getvalue(), "damaged.xlsx")
+    pkg.read_structure(100)
+    out = tmp_path / "out.xlsx"
+    with pytest.raises(WorkbookError, match="no sheetData"), atomic_writer(out, False, ()) as fh:
+        write_live(pkg, {CellRef("S", 1, 1): Edit(2.0)}, fh)
+    assert list(tmp_path.iterdir()) == []

@@ -523,12 +523,21 @@ def apply_edits(
     pkg: Package, edits: Mapping[CellRef, Edit] | SheetEdits, parts: dict[str, NewPart]
 ) -> None:
     """Make ``edits`` (by cell reference, or grouped by sheet) in the sheets' XML (into
-    ``parts``)."""
+    ``parts``, as pieces made when the package is written: one sheet's text is held at
+    a time)."""
     by_sheet = edits if isinstance(edits, SheetEdits) else SheetEdits.of(edits)
     for sheet in pkg.worksheets():
         cells = by_sheet.get(sheet.name)
         if cells:
-            parts[sheet.part] = _patched(text_of(parts, pkg, sheet.part), cells)
+            given = parts.get(sheet.part)  # bytes from an earlier change, or None
+            parts[sheet.part] = _patched_part(pkg, sheet.part, given, cells)
+
+
+def _patched_part(
+    pkg: Package, part: str, given: NewPart, cells: Mapping[tuple[int, int], Edit]
+) -> Iterator[str]:
+    """The pieces of ``part`` patched, its text read only when the first is taken."""
+    yield from _patched(text_of({part: given} if given is not None else {}, pkg, part), cells)
 
 
 def write_live(
