@@ -114,7 +114,8 @@ def test_stacked_equals_element_by_element(name, data):
 #: must leave to the package (booleans, text, empty, errors); common practice
 EDGES = [
     0.0, -0.0, 1.0, -2.5, 0.1, 3.0, 1e308, -1e308, 5e-324, 1e-300, 3, -7, 0, 2**53, 2**53 + 1,
-    True, False, "2", "abc", "ABC", "Straße", "STRASSE", "", sh.EMPTY, Error.errors["#DIV/0!"],
+    True, False, "2", "abc", "ABC", "Straße", "STRASSE", "", "a\x00", "A", "\x00", sh.EMPTY,
+    Error.errors["#DIV/0!"],
 ]
 TEXTS = [x for x in EDGES if type(x) is str]
 FLOATS = [x for x in EDGES if type(x) is float]

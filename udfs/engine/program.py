@@ -275,7 +275,13 @@ def _on_texts(op: Callable[..., Any], args: list[Any]) -> Any:
             return None
     if shape is None:
         return np.asarray(op(*upper), dtype=object).view(Array)
-    return np.asarray(op(*upper), dtype=bool).astype(object).view(Array)
+    # compared pair by pair in Python: numpy would turn a single text into a
+    # fixed-width string first, which drops trailing NUL characters
+    size = int(np.prod(shape))
+    columns = [list(u.flat) if isinstance(u, np.ndarray) else [u] * size for u in upper]
+    out = np.empty(shape, dtype=object)
+    out.flat[:] = [op(*pair) for pair in zip(*columns, strict=True)]
+    return out.view(Array)
 
 
 def _on_choice(args: list[Any]) -> Any:
@@ -306,7 +312,7 @@ def _on_choice(args: list[Any]) -> Any:
             if any(v is sh.EMPTY for v in a.flat):
                 return None
             shape = a.shape
-        elif isinstance(a, Ranges) or a is sh.EMPTY:
+        elif a is sh.EMPTY or not isinstance(a, (float, int, str)):  # ranges, lists, ...
             return None
         values.append(a)
     cond, x, y = values
