@@ -155,6 +155,88 @@ def test_a_sweep_scenario_equals_an_evaluation():
         assert run(v) == [ev.value("Calc!H1"), ev.value("Calc!E40"), ev.value("Calc!D2")]
 
 
+def _batch_case(data: bytes, name: str) -> tuple[WorkbookModel, list[str], list[list], list[str]]:
+    """Inputs to vary (named constant cells, at most 4), rows of their values (numbers
+    scaled, zeroed, negated; texts in another case and unknown), and every named output."""
+    model = WorkbookModel(data, name)
+    rng = random.Random(11)  # fixed: the same rows every run
+    named = [(n, r) for n, r in model.named_cells.items() if not model.is_formula(r)]
+    numbers = [(n, model.constant(r)) for n, r in named if type(model.constant(r)) is float]
+    texts = [(n, model.constant(r)) for n, r in named if type(model.constant(r)) is str]
+    chosen = rng.sample(numbers, min(3, len(numbers))) + texts[:1]
+    rows = []
+    for _ in range(12):
+        row = []
+        for _n, v in chosen:
+            if isinstance(v, str):
+                row.append(rng.choice([v, v.lower(), "no such name"]))
+            else:
+                row.append(v * rng.choice([1.0, 0.5, 1.5, 0.0, -1.0, 1.01]))
+        rows.append(row)
+    outputs = [n for n, r in model.named_cells.items() if model.is_formula(r)]
+    return model, [n for n, _ in chosen], rows, outputs
+
+
+@pytest.mark.parametrize("path", TEMPLATES, ids=lambda p: p.name)
+def test_a_batch_of_scenarios_equals_the_scenarios_one_by_one(path):
+    # Evaluator.scenarios computes every row at once (stacked where elementwise, row by
+    # row elsewhere); a scenario at a time is the reference
+    model, targets, rows, outputs = _batch_case(_oracle_input(path), path.name)
+    assert targets and outputs
+    one = model.scenario_function(targets, outputs)
+    many = model.scenarios_function(targets, outputs)
+    expected = [one(*row) for row in rows]
+    got = many(rows)
+    assert len(got) == len(expected)
+    for row, a, b in zip(rows, got, expected, strict=True):
+        assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
+
+
+def test_a_batch_of_cell_designs_is_computed_at_once_and_equals_one_by_one():
+    # the sweep's own case: cell-sizing inputs of every kind (numbers, a material name
+    # with its alias and an unknown one, the cell format), computed for all rows at once
+    (path,) = [p for p in TEMPLATES if p.name == "cell_sizing.xlsx"]
+    model = WorkbookModel(path.read_bytes(), path.name)
+    targets = ["in_np_ratio", "in_loading", "in_cathode", "in_format"]
+    outputs = [n for n, r in model.named_cells.items() if model.is_formula(r)]
+    rows = [
+        [np_, load, cathode, fmt]
+        for np_ in (0.9, 1.1, 1.25)
+        for load in (12.0, 20.0)
+        for cathode in ("NMC811", "LFP", "unobtainium")
+        for fmt in ("pouch", "cylindrical", "prismatic")
+    ]
+    ev = model._evaluator
+    assert ev is not None
+    keys = tuple(model.key_of(model.resolve(t)) for t in targets)
+    outs = tuple(model.key_of(model.resolve(o)) for o in outputs)
+    assert ev._batch(keys, [tuple(r) for r in rows], outs) is not None  # not row by row
+    one = model.scenario_function(targets, outputs)
+    expected = [one(*row) for row in rows]
+    got = model.scenarios_function(targets, outputs)(rows)
+    for row, a, b in zip(rows, got, expected, strict=True):
+        assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
+
+
+def test_a_batch_reading_ranges_over_varied_cells_equals_one_by_one():
+    # the mixed workbook's sums, lookups and running totals read blocks of cells that
+    # vary by row: those cells are computed row by row
+    model = WorkbookModel(_mixed_book(), "mixed.xlsx")
+    targets = ["Inputs!B2", "Inputs!A3", "Inputs!B7"]
+    outputs = ["Calc!H1", "Calc!H2", "Calc!H3", "Calc!H4", "Calc!E40", "Calc!I40", "Calc!D2"]
+    rows = [[b, a, c] for b in (0.5, 2.0, 9.0) for a in (0.0, -3.0, "x") for c in (1.0, 4.0)]
+    ev = model._evaluator
+    assert ev is not None
+    keys = tuple(model.key_of(model.resolve(t)) for t in targets)
+    outs = tuple(model.key_of(model.resolve(o)) for o in outputs)
+    assert ev._batch(keys, [tuple(r) for r in rows], outs) is not None  # not row by row
+    one = model.scenario_function(targets, outputs)
+    expected = [one(*row) for row in rows]
+    got = model.scenarios_function(targets, outputs)(rows)
+    for row, a, b in zip(rows, got, expected, strict=True):
+        assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
+
+
 def test_three_cells_three_messages_in_the_plan_and_in_the_fallback():
     wb = openpyxl.Workbook()
     ws = wb.active

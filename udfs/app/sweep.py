@@ -83,6 +83,9 @@ __all__ = [
 ]
 
 MAX_WORKBOOK_SCENARIOS = 10_000
+#: Workbook scenarios computed together (Evaluator.scenarios); the progress bar moves
+#: a batch at a time.
+SWEEP_BATCH = 250
 MAX_CORE_SCENARIOS = 2_000_000
 MAX_POINTS_PER_AXIS = 100_000
 #: Rows per chunk of a core sweep on Dask.
@@ -335,16 +338,20 @@ def sweep_workbook(
             )
     columns: dict[str, list[Any]] = {v.target: [] for v in varies}
     columns.update({name: [] for name, _ in out_refs})
-    scenario = model.scenario_function([*targets, *unit_refs], [ref for _, ref in out_refs])
+    batch = model.scenarios_function([*targets, *unit_refs], [ref for _, ref in out_refs])
+    combos = _fastest_first(varies)
     bar = progress or Progress(n, "sweep")
     try:
-        for combo in _fastest_first(varies):
-            results = scenario(*combo, *unit_values)
-            for v, x in zip(varies, combo, strict=True):
-                columns[v.target].append(x)
-            for (name, _), value in zip(out_refs, results, strict=True):
-                columns[name].append(_cell_out(value))
-            bar.advance()
+        for start in range(0, len(combos), SWEEP_BATCH):
+            chunk = combos[start : start + SWEEP_BATCH]
+            for combo, results in zip(
+                chunk, batch([[*combo, *unit_values] for combo in chunk]), strict=True
+            ):
+                for v, x in zip(varies, combo, strict=True):
+                    columns[v.target].append(x)
+                for (name, _), value in zip(out_refs, results, strict=True):
+                    columns[name].append(_cell_out(value))
+                bar.advance()
     finally:
         bar.close()
     labels, units = {}, {}

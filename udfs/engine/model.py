@@ -28,7 +28,7 @@ import hashlib
 import time
 from bisect import bisect_left
 from collections import OrderedDict
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Any, NamedTuple
@@ -480,6 +480,29 @@ class WorkbookModel:
             return [to_cell(v) for v in got]
 
         return scenario
+
+    def scenarios_function(
+        self, targets: list[CellRef | str], outputs: list[CellRef | str]
+    ) -> Callable[[Sequence[Sequence[Override]]], list[list[CellValue]]]:
+        """:meth:`scenario_function` for many rows of the ``targets``' values at once (the
+        same values, computed a cell at a time for all rows: :meth:`Evaluator.scenarios`)."""
+        t_keys = [self._check_override(t, 0.0)[1] for t in targets]
+        o_keys = [self.key_of(self.resolve(o)) for o in outputs]
+        evaluator = self._evaluator_for(t_keys)
+        if evaluator is None:
+            one = self.scenario_function(targets, outputs)
+            return lambda rows: [one(*row) for row in rows]
+        batch = evaluator.scenarios(t_keys, o_keys)
+
+        def scenarios(rows: Sequence[Sequence[Override]]) -> list[list[CellValue]]:
+            engine_rows = []
+            for row in rows:
+                for t, v in zip(targets, row, strict=True):
+                    self._check_override(t, v)
+                engine_rows.append([engine_value(float(v) if type(v) is int else v) for v in row])
+            return [[to_cell(v) for v in got] for got in batch(engine_rows)]
+
+        return scenarios
 
 
 def _inside(cell: tuple[int, int], span: tuple[int, int, int, int]) -> bool:
