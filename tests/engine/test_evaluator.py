@@ -183,10 +183,24 @@ def test_a_batch_of_scenarios_equals_the_scenarios_one_by_one(path):
     # row elsewhere); a scenario at a time is the reference
     model, targets, rows, outputs = _batch_case(_oracle_input(path), path.name)
     assert targets and outputs
+    _assert_batch_equals_one_by_one(model, targets, outputs, rows, batched=False)
+
+
+def _assert_batch_equals_one_by_one(
+    model: WorkbookModel, targets: list[str], outputs: list[str], rows: list[list],
+    batched: bool,
+) -> None:
+    """The rows computed as one batch equal them computed one at a time (``batched``: and
+    the batch really was computed at once, not declined to row by row)."""
+    if batched:
+        ev = model._evaluator
+        assert ev is not None
+        keys = tuple(model.key_of(model.resolve(t)) for t in targets)
+        outs = tuple(model.key_of(model.resolve(o)) for o in outputs)
+        assert ev._batch(keys, [tuple(r) for r in rows], outs) is not None
     one = model.scenario_function(targets, outputs)
-    many = model.scenarios_function(targets, outputs)
     expected = [one(*row) for row in rows]
-    got = many(rows)
+    got = model.scenarios_function(targets, outputs)(rows)
     assert len(got) == len(expected)
     for row, a, b in zip(rows, got, expected, strict=True):
         assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
@@ -206,16 +220,7 @@ def test_a_batch_of_cell_designs_is_computed_at_once_and_equals_one_by_one():
         for cathode in ("NMC811", "LFP", "unobtainium")
         for fmt in ("pouch", "cylindrical", "prismatic")
     ]
-    ev = model._evaluator
-    assert ev is not None
-    keys = tuple(model.key_of(model.resolve(t)) for t in targets)
-    outs = tuple(model.key_of(model.resolve(o)) for o in outputs)
-    assert ev._batch(keys, [tuple(r) for r in rows], outs) is not None  # not row by row
-    one = model.scenario_function(targets, outputs)
-    expected = [one(*row) for row in rows]
-    got = model.scenarios_function(targets, outputs)(rows)
-    for row, a, b in zip(rows, got, expected, strict=True):
-        assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
+    _assert_batch_equals_one_by_one(model, targets, outputs, rows, batched=True)
 
 
 def test_a_batch_reading_ranges_over_varied_cells_equals_one_by_one():
@@ -225,16 +230,7 @@ def test_a_batch_reading_ranges_over_varied_cells_equals_one_by_one():
     targets = ["Inputs!B2", "Inputs!A3", "Inputs!B7"]
     outputs = ["Calc!H1", "Calc!H2", "Calc!H3", "Calc!H4", "Calc!E40", "Calc!I40", "Calc!D2"]
     rows = [[b, a, c] for b in (0.5, 2.0, 9.0) for a in (0.0, -3.0, "x") for c in (1.0, 4.0)]
-    ev = model._evaluator
-    assert ev is not None
-    keys = tuple(model.key_of(model.resolve(t)) for t in targets)
-    outs = tuple(model.key_of(model.resolve(o)) for o in outputs)
-    assert ev._batch(keys, [tuple(r) for r in rows], outs) is not None  # not row by row
-    one = model.scenario_function(targets, outputs)
-    expected = [one(*row) for row in rows]
-    got = model.scenarios_function(targets, outputs)(rows)
-    for row, a, b in zip(rows, got, expected, strict=True):
-        assert all(_same(x, y) for x, y in zip(a, b, strict=True)), (row, a, b)
+    _assert_batch_equals_one_by_one(model, targets, outputs, rows, batched=True)
 
 
 def test_three_cells_three_messages_in_the_plan_and_in_the_fallback():

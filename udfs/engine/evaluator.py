@@ -480,11 +480,7 @@ class Evaluator:
     def _one(self, prog: Program, u: Unit, cell: tuple[int, int], run: _Run) -> None:
         run.sheet, run.cell = u.sheet, cell
         with Messages.collect() as box:
-            try:
-                result = prog.run(self._args(prog, u, cell, run))
-            except Exception as exc:  # a function of the package raised: the cell is #VALUE!
-                result = error_value("#VALUE!")
-                box.items.append((None, f"#VALUE! {type(exc).__name__} while computing"))
+            result = _outcome(prog, lambda: self._args(prog, u, cell, run), box)
         if u.span is not None:
             self._fill(u, result, run, box)
             return
@@ -658,14 +654,20 @@ def _at(value: Any, i: int) -> Any:
     return value[i] if type(value) is _Each else value
 
 
+def _outcome(prog: Program, args: Callable[[], list[Any]], box: Messages) -> Any:
+    """The program's result on ``args()``; #VALUE! (with its message in ``box``) when a
+    function of the package raises."""
+    try:
+        return prog.run(args())
+    except Exception as exc:
+        box.items.append((None, f"#VALUE! {type(exc).__name__} while computing"))
+        return error_value("#VALUE!")
+
+
 def _computed(prog: Program, args: list[Any]) -> Any:
     """A cell's value from its arguments, as :meth:`Evaluator._one` computes it."""
-    with Messages.collect():
-        try:
-            result = prog.run(args)
-        except Exception:  # a function of the package raised: the cell is #VALUE!
-            result = error_value("#VALUE!")
-    return _settle(result)
+    with Messages.collect() as box:
+        return _settle(_outcome(prog, lambda: args, box))
 
 
 def _same(a: Any, b: Any) -> bool:

@@ -461,25 +461,8 @@ class WorkbookModel:
     ) -> Callable[..., list[CellValue]]:
         """A function of the ``targets``' values returning the ``outputs``' values (sweeps:
         only the cells between those inputs and those outputs are recomputed)."""
-        t_keys = [self._check_override(t, 0.0)[1] for t in targets]
-        o_keys = [self.key_of(self.resolve(o)) for o in outputs]
-        evaluator = self._evaluator_for(t_keys)
-        if evaluator is None:
-
-            def whole(*values: Override) -> list[CellValue]:
-                ev = self.evaluate(dict(zip(targets, values, strict=True)))
-                return [ev.value(self.ref_of(k)) for k in o_keys]
-
-            return whole
-        run = evaluator.scenario(t_keys, o_keys)
-
-        def scenario(*values: Override) -> list[CellValue]:
-            for t, v in zip(targets, values, strict=True):
-                self._check_override(t, v)
-            got = run([engine_value(float(v) if type(v) is int else v) for v in values])
-            return [to_cell(v) for v in got]
-
-        return scenario
+        batch = self.scenarios_function(targets, outputs)
+        return lambda *values: batch([values])[0]
 
     def scenarios_function(
         self, targets: list[CellRef | str], outputs: list[CellRef | str]
@@ -490,8 +473,12 @@ class WorkbookModel:
         o_keys = [self.key_of(self.resolve(o)) for o in outputs]
         evaluator = self._evaluator_for(t_keys)
         if evaluator is None:
-            one = self.scenario_function(targets, outputs)
-            return lambda rows: [one(*row) for row in rows]
+
+            def whole(rows: Sequence[Sequence[Override]]) -> list[list[CellValue]]:
+                evs = [self.evaluate(dict(zip(targets, row, strict=True))) for row in rows]
+                return [[ev.value(self.ref_of(k)) for k in o_keys] for ev in evs]
+
+            return whole
         batch = evaluator.scenarios(t_keys, o_keys)
 
         def scenarios(rows: Sequence[Sequence[Override]]) -> list[list[CellValue]]:
